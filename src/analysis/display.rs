@@ -1,0 +1,207 @@
+//! Printed forms of numbers. Rates are shown in percent with three significant digits, rounded
+//! outwards: an upper bound up and a lower bound down, so that a printed figure is never less
+//! conservative than the computed one (comparisons with the limit always use unrounded values).
+
+/// Direction in which a printed figure may deviate from the exact value.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Rounding {
+    /// Printed value ≥ exact value (upper bounds).
+    Up,
+    /// Printed value ≤ exact value (lower bounds).
+    Down,
+    /// Nearest (observed rates, which guarantee nothing).
+    Nearest,
+}
+
+const SIGNIFICANT: i32 = 3;
+
+/// A rate in [0, 1] as a percentage string, e.g. `0.423 %`, rounded as asked.
+pub fn percent(rate: f64, rounding: Rounding) -> String {
+    let value = rate * 100.0;
+    if value == 0.0 {
+        return "0 %".to_string();
+    }
+    if value >= 100.0 {
+        return "100 %".to_string();
+    }
+    let exponent = value.abs().log10().floor() as i32;
+    let scale_exp = SIGNIFICANT - 1 - exponent;
+    let scaled = value * 10f64.powi(scale_exp);
+    let mut digits = match rounding {
+        Rounding::Up => scaled.ceil(),
+        Rounding::Down => scaled.floor(),
+        Rounding::Nearest => scaled.round(),
+    };
+    // The product above is itself rounded; step once more when it landed on the wrong side.
+    loop {
+        let candidate = digits / 10f64.powi(scale_exp);
+        let ok = match rounding {
+            Rounding::Up => candidate >= value,
+            Rounding::Down => candidate <= value,
+            Rounding::Nearest => true,
+        };
+        if ok {
+            break;
+        }
+        digits += if rounding == Rounding::Up { 1.0 } else { -1.0 };
+    }
+    let mut scale_exp = scale_exp;
+    if digits >= 10f64.powi(SIGNIFICANT) {
+        // 999.6 rounded up to 1000: drop the extra digit, which is a zero.
+        digits /= 10.0;
+        scale_exp -= 1;
+    }
+    if digits / 10f64.powi(scale_exp) >= 100.0 {
+        return "100 %".to_string();
+    }
+    let text = render(digits, scale_exp);
+    format!("{text} %")
+}
+
+/// `digits · 10^(−scale_exp)` as decimal text, switching to a power-of-ten form for very small
+/// values so that tables stay narrow.
+fn render(digits: f64, scale_exp: i32) -> String {
+    let value = digits / 10f64.powi(scale_exp);
+    if value >= 1e-3 {
+        let decimals = scale_exp.max(0) as usize;
+        let text = format!("{value:.decimals$}");
+        return text;
+    }
+    // digits has SIGNIFICANT digits (it may have rolled over to one more, e.g. 1000).
+    let mut mantissa = digits;
+    let mut exp10 = -scale_exp;
+    while mantissa >= 10f64.powi(SIGNIFICANT) {
+        mantissa /= 10.0;
+        exp10 += 1;
+    }
+    let lead = mantissa / 10f64.powi(SIGNIFICANT - 1);
+    exp10 += SIGNIFICANT - 1;
+    format!(
+        "{lead:.prec$} × 10{}",
+        superscript(exp10),
+        prec = (SIGNIFICANT - 1) as usize
+    )
+}
+
+fn superscript(n: i32) -> String {
+    let mut out = String::new();
+    if n < 0 {
+        out.push('⁻');
+    }
+    for c in n.unsigned_abs().to_string().chars() {
+        out.push(match c {
+            '0' => '⁰',
+            '1' => '¹',
+            '2' => '²',
+            '3' => '³',
+            '4' => '⁴',
+            '5' => '⁵',
+            '6' => '⁶',
+            '7' => '⁷',
+            '8' => '⁸',
+            _ => '⁹',
+        });
+    }
+    out
+}
+
+/// A limit as written (shortest exact decimal of the f64), in percent: 0.01 → `1 %`.
+pub fn limit_percent(limit: f64) -> String {
+    let text = format!("{:.10}", limit * 100.0);
+    let trimmed = text.trim_end_matches('0').trim_end_matches('.');
+    format!("{trimmed} %")
+}
+
+/// A probability such as δ with four significant digits, in plain decimals down to 0.0001 and
+/// in exponent form below: 0.05 → `0.05`, 0.05/3 → `0.01667`, 1e-12 → `1e-12`.
+pub fn probability(p: f64) -> String {
+    if p == 0.0 || !p.is_finite() {
+        return format!("{p}");
+    }
+    if p >= 1e-4 {
+        let decimals = (3 - p.log10().floor() as i32).max(0) as usize;
+        let text = format!("{p:.decimals$}");
+        let text = text.trim_end_matches('0').trim_end_matches('.');
+        text.to_string()
+    } else {
+        let text = format!("{p:.3e}");
+        let (mantissa, exp) = text.split_once('e').unwrap_or((&text, "0"));
+        let mantissa = mantissa.trim_end_matches('0').trim_end_matches('.');
+        format!("{mantissa}e{exp}")
+    }
+}
+
+/// A whole number with thousands separators: 4600 → `4,600`.
+pub fn count(n: u64) -> String {
+    let digits = n.to_string();
+    let mut out = String::with_capacity(digits.len() + digits.len() / 3);
+    for (i, c) in digits.chars().enumerate() {
+        if i > 0 && (digits.len() - i).is_multiple_of(3) {
+            out.push(',');
+        }
+        out.push(c);
+    }
+    out
+}
+
+/// A confidence written `0.95` or `95%` as a percentage: `95 %`, without any float arithmetic.
+pub fn confidence_percent(text: &str) -> String {
+    let t = text.trim().trim_matches('"');
+    if let Some(p) = t.strip_suffix('%') {
+        return format!("{} %", p.trim());
+    }
+    let (int, frac) = t.split_once('.').unwrap_or((t, ""));
+    let mut frac = frac.to_string();
+    while frac.len() < 2 {
+        frac.push('0');
+    }
+    let (move_left, rest) = frac.split_at(2);
+    let whole = format!("{int}{move_left}");
+    let whole = whole.trim_start_matches('0');
+    let whole = if whole.is_empty() { "0" } else { whole };
+    if rest.trim_end_matches('0').is_empty() {
+        format!("{whole} %")
+    } else {
+        format!("{whole}.{} %", rest.trim_end_matches('0'))
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    // Outward rounding rule of DESIGN.md §6 (printed upper bounds round up, lower bounds down).
+    #[test]
+    fn upper_bounds_round_up_lower_round_down() {
+        assert_eq!(percent(0.004223226068808206, Rounding::Up), "0.423 %");
+        assert_eq!(percent(0.004223226068808206, Rounding::Down), "0.422 %");
+        assert_eq!(percent(0.0015059311140814427, Rounding::Down), "0.150 %");
+        assert_eq!(percent(0.2, Rounding::Up), "20.0 %");
+        assert_eq!(percent(0.99999, Rounding::Up), "100 %");
+        assert_eq!(percent(0.0, Rounding::Up), "0 %");
+    }
+
+    #[test]
+    fn tiny_rates_use_powers_of_ten() {
+        assert_eq!(percent(2.9957e-9, Rounding::Up), "3.00 × 10⁻⁷ %");
+        assert_eq!(percent(2.9957e-9, Rounding::Down), "2.99 × 10⁻⁷ %");
+    }
+
+    #[test]
+    fn counts_and_confidences() {
+        assert_eq!(count(4600), "4,600");
+        assert_eq!(count(1_000_000_000_000_000), "1,000,000,000,000,000");
+        assert_eq!(count(999), "999");
+        assert_eq!(confidence_percent("0.95"), "95 %");
+        assert_eq!(confidence_percent("0.999"), "99.9 %");
+        assert_eq!(confidence_percent("\"99.9%\""), "99.9 %");
+        assert_eq!(confidence_percent("0.9"), "90 %");
+        assert_eq!(limit_percent(0.01), "1 %");
+        assert_eq!(limit_percent(0.003), "0.3 %");
+        assert_eq!(probability(0.05), "0.05");
+        assert_eq!(probability(0.05 / 3.0), "0.01667");
+        assert_eq!(probability(0.025), "0.025");
+        assert_eq!(probability(1e-12), "1e-12");
+        assert_eq!(probability(2.5e-7), "2.5e-7");
+    }
+}

@@ -1,0 +1,268 @@
+//! The method catalogue: every published bound surety can report, declared once.
+//!
+//! `surety methods`, the `auto` rule, the assumption checklist and the report's method appendix
+//! all read [`CATALOGUE`] and [`ASSUMPTIONS`]. Adding a method is one new file in this folder plus
+//! one entry in [`CATALOGUE`].
+
+pub mod chernoff_kl;
+pub mod exact;
+pub mod hoeffding;
+
+use serde::Serialize;
+
+/// Kind of outcome a method accepts.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum OutcomeKind {
+    /// One trial yields 0 or 1 (an event or not).
+    Binary,
+    /// One trial yields a value in a declared range [a, b].
+    Bounded,
+}
+
+/// Dependence structure between trials a method tolerates.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Dependence {
+    /// Independent trials.
+    Independent,
+    /// Constant conditional mean given the past.
+    Martingale,
+    /// Trials grouped in clusters, analysed on cluster means.
+    Clustered,
+    /// Trials more than m apart are independent.
+    MDependent,
+}
+
+/// Whether a bound may be read once at a pre-set sample size or at any time.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Guarantee {
+    /// Valid at a number of trials fixed before seeing the data.
+    FixedN,
+    /// Valid simultaneously at every number of trials (a confidence sequence).
+    Anytime,
+}
+
+impl Guarantee {
+    /// The id written in results and reports.
+    pub fn id(self) -> &'static str {
+        match self {
+            Guarantee::FixedN => "fixed-n",
+            Guarantee::Anytime => "anytime",
+        }
+    }
+}
+
+/// How an assumption can be confirmed.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "kebab-case")]
+pub enum Confirmation {
+    /// The data themselves show whether it holds.
+    Data,
+    /// Only a person who knows how the trials were run can confirm it.
+    Attestation,
+}
+
+/// A condition a method needs for its guarantee to hold.
+#[derive(Debug, Clone, Serialize)]
+pub struct Assumption {
+    /// Stable id, used as the key under `attestations:` in a spec.
+    pub id: &'static str,
+    /// The condition in words.
+    pub text: &'static str,
+    /// What goes wrong when it fails.
+    pub consequence: &'static str,
+    /// Whether the data can check it.
+    pub confirmation: Confirmation,
+}
+
+/// One-sided bounds on a binary rate from counts: `(events, trials, delta) -> bound`.
+///
+/// Each function returns a bound that covers the true rate with probability at least 1 − delta
+/// (upper: rate ≤ bound; lower: rate ≥ bound), given trials ≥ 1, events ≤ trials, 0 < delta < 1.
+#[derive(Debug, Clone, Copy)]
+pub struct CountBounds {
+    /// One-sided upper bound.
+    pub upper: fn(u64, u64, f64) -> f64,
+    /// One-sided lower bound.
+    pub lower: fn(u64, u64, f64) -> f64,
+}
+
+/// A catalogue entry: everything the program knows about one method.
+#[derive(Debug, Clone, Serialize)]
+pub struct Method {
+    /// Id used in specs and results.
+    pub id: &'static str,
+    /// Display name.
+    pub name: &'static str,
+    /// What the method guarantees, in words.
+    pub statement: &'static str,
+    /// The bound in typst math markup (constant text of ours, never user input).
+    pub formula_typst: &'static str,
+    /// Primary publication.
+    pub citation: &'static str,
+    /// Outcomes it is valid for.
+    pub outcomes: &'static [OutcomeKind],
+    /// Dependence models it is valid under.
+    pub dependence: &'static [Dependence],
+    /// Fixed-n or anytime.
+    pub guarantee: Guarantee,
+    /// Whether the method builds a two-sided interval itself (otherwise δ/2 goes to each side).
+    pub two_sided_built: bool,
+    /// Ids of the assumptions in [`ASSUMPTIONS`] its guarantee rests on.
+    pub assumptions: &'static [&'static str],
+    /// Bounds from counts, for binary outcomes.
+    #[serde(skip)]
+    pub counts: Option<CountBounds>,
+}
+
+impl Method {
+    /// Whether the method may be used for this outcome and dependence model.
+    pub fn valid_for(&self, outcome: OutcomeKind, dependence: Dependence) -> bool {
+        self.outcomes.contains(&outcome) && self.dependence.contains(&dependence)
+    }
+}
+
+/// Every assumption any method or dependence model may rest on.
+pub static ASSUMPTIONS: &[Assumption] = &[
+    Assumption {
+        id: "whole-counts",
+        text: "Every trial is counted once, as an event or not: whole numbers with events \
+               not exceeding trials.",
+        consequence: "A binomial bound has no meaning for weighted or fractional counts.",
+        confirmation: Confirmation::Data,
+    },
+    Assumption {
+        id: "independent-trials",
+        text: "The outcome of one trial carries no information about another: no shared \
+               fixture, lot, specimen or operator effect links them.",
+        consequence: "Dependent trials carry less information than their number suggests; \
+                      the bound can be too narrow and the false-pass risk larger than stated.",
+        confirmation: Confirmation::Attestation,
+    },
+    Assumption {
+        id: "identical-conditions",
+        text: "All trials measure one and the same rate: same design, build, configuration \
+               and test conditions throughout the campaign.",
+        consequence: "If the rate drifted, the exact bound may not hold for any single \
+                      condition, including the one in the field.",
+        confirmation: Confirmation::Attestation,
+    },
+    Assumption {
+        id: "fixed-sample-size",
+        text: "The number of trials was fixed before testing, and testing did not stop or \
+               continue because of the results seen.",
+        consequence: "Stopping when the results look good raises the false-pass risk above \
+                      the stated error budget.",
+        confirmation: Confirmation::Attestation,
+    },
+    Assumption {
+        id: "complete-records",
+        text: "No trial was excluded, repeated or reclassified after its outcome was known.",
+        consequence: "Dropping or retesting failures biases the counts toward passing.",
+        confirmation: Confirmation::Attestation,
+    },
+    Assumption {
+        id: "representative-trials",
+        text: "The units and conditions tested represent the population and use the claim \
+               is about, and the system was not tuned on these trials.",
+        consequence: "The guarantee then holds for the tested population only, not for the \
+                      product in use.",
+        confirmation: Confirmation::Attestation,
+    },
+];
+
+/// The methods, in the order `surety methods` lists them.
+pub static CATALOGUE: &[Method] = &[
+    Method {
+        id: "exact",
+        name: "Exact binomial (Clopper–Pearson)",
+        statement: "For k events in n independent trials with a common rate p, the upper bound \
+                    is the largest rate at which k or fewer events still have probability \
+                    above δ; the lower bound mirrors it. Coverage is at least 1 − δ for every \
+                    true rate.",
+        formula_typst: "U = sup {p : sum_(j=0)^k binom(n, j) p^j (1-p)^(n-j) > delta}, quad \
+                        L = inf {p : sum_(j=k)^n binom(n, j) p^j (1-p)^(n-j) > delta}",
+        citation: "C. J. Clopper and E. S. Pearson (1934), \"The use of confidence or fiducial \
+                   limits illustrated in the case of the binomial\", Biometrika 26(4):404–413.",
+        outcomes: &[OutcomeKind::Binary],
+        dependence: &[Dependence::Independent],
+        guarantee: Guarantee::FixedN,
+        two_sided_built: false,
+        assumptions: &[
+            "whole-counts",
+            "independent-trials",
+            "identical-conditions",
+            "fixed-sample-size",
+            "complete-records",
+            "representative-trials",
+        ],
+        counts: Some(CountBounds {
+            upper: exact::upper,
+            lower: exact::lower,
+        }),
+    },
+    Method {
+        id: "chernoff-kl",
+        name: "Chernoff-kl (binary relative entropy)",
+        statement: "The observed mean of n independent values in [0, 1] falls short of the true \
+                    mean by an amount whose probability is at most exp(−n·kl); inverting the \
+                    relative entropy kl gives the bound. Valid for any values in [0, 1], so \
+                    never tighter than the exact bound on binary data.",
+        formula_typst: "U = max {q >= hat(p) : n dot \"kl\"(hat(p) || q) <= ln(1 slash delta)}, \
+                        quad \"kl\"(p || q) = p ln p/q + (1-p) ln (1-p)/(1-q)",
+        citation: "W. Hoeffding (1963), \"Probability inequalities for sums of bounded random \
+                   variables\", J. Amer. Statist. Assoc. 58(301):13–30; H. Chernoff (1952), \
+                   Ann. Math. Statist. 23(4):493–507.",
+        outcomes: &[OutcomeKind::Binary, OutcomeKind::Bounded],
+        dependence: &[Dependence::Independent, Dependence::Martingale],
+        guarantee: Guarantee::FixedN,
+        two_sided_built: false,
+        assumptions: &[
+            "independent-trials",
+            "fixed-sample-size",
+            "complete-records",
+            "representative-trials",
+        ],
+        counts: Some(CountBounds {
+            upper: chernoff_kl::upper,
+            lower: chernoff_kl::lower,
+        }),
+    },
+    Method {
+        id: "hoeffding",
+        name: "Hoeffding",
+        statement: "The mean of n independent values in [0, 1] exceeds its observed value by \
+                    more than t with probability at most exp(−2nt²). It ignores the variance, \
+                    so it is the loosest of the three on small rates.",
+        formula_typst: "U = hat(p) + sqrt(ln(1 slash delta) / (2 n)), quad \
+                        L = hat(p) - sqrt(ln(1 slash delta) / (2 n))",
+        citation: "W. Hoeffding (1963), \"Probability inequalities for sums of bounded random \
+                   variables\", J. Amer. Statist. Assoc. 58(301):13–30, Theorem 2.",
+        outcomes: &[OutcomeKind::Binary, OutcomeKind::Bounded],
+        dependence: &[Dependence::Independent, Dependence::Martingale],
+        guarantee: Guarantee::FixedN,
+        two_sided_built: false,
+        assumptions: &[
+            "independent-trials",
+            "fixed-sample-size",
+            "complete-records",
+            "representative-trials",
+        ],
+        counts: Some(CountBounds {
+            upper: hoeffding::upper,
+            lower: hoeffding::lower,
+        }),
+    },
+];
+
+/// The catalogue entry with this id.
+pub fn find(id: &str) -> Option<&'static Method> {
+    CATALOGUE.iter().find(|m| m.id == id)
+}
+
+/// The assumption with this id.
+pub fn assumption(id: &str) -> Option<&'static Assumption> {
+    ASSUMPTIONS.iter().find(|a| a.id == id)
+}

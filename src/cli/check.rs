@@ -1,0 +1,74 @@
+//! `surety check`: validate a spec and list the assumptions, without writing anything.
+
+use crate::error::Error;
+use crate::study;
+use std::fmt::Write;
+use std::path::PathBuf;
+
+/// Arguments of `surety check`.
+#[derive(Debug, clap::Args)]
+pub struct Args {
+    /// The study spec (YAML).
+    pub spec: PathBuf,
+}
+
+/// Validate and summarise.
+pub fn run(args: Args) -> Result<i32, Error> {
+    let prepared = study::prepare(&args.spec, &super::environment())?;
+    let a = &prepared.analysis;
+    let mut out = String::new();
+    let _ = writeln!(out, "{}: the spec is valid", args.spec.display());
+    let _ = writeln!(out, "study    {}  {}", a.study.id, a.study.title);
+    let _ = writeln!(
+        out,
+        "claim    {} {} {} at {} confidence ({}, scope {})",
+        a.claim.quantity,
+        if a.claim.side == "lower" {
+            "≥"
+        } else {
+            "≤"
+        },
+        a.claim.display.limit,
+        a.claim.display.confidence,
+        a.claim.side,
+        a.claim.scope
+    );
+    let trials: u64 = a.arms.iter().map(|r| r.n).sum();
+    let events: u64 = a.arms.iter().filter_map(|r| r.events).sum();
+    let _ = writeln!(
+        out,
+        "data     {} arm(s), {} trials, {} events",
+        a.arms.len(),
+        crate::analysis::display::count(trials),
+        crate::analysis::display::count(events)
+    );
+    let compare: Vec<&str> = a.methods.iter().skip(1).map(|m| m.id.as_str()).collect();
+    let _ = writeln!(
+        out,
+        "method   {} (primary), compare: {}",
+        a.methods[0].id,
+        if compare.is_empty() {
+            "none".to_string()
+        } else {
+            compare.join(", ")
+        }
+    );
+    let _ = writeln!(
+        out,
+        "budget   δ = {} per one-sided bound",
+        crate::analysis::display::probability(a.adjustments.delta_per_bound)
+    );
+    for s in &a.adjustments.steps {
+        let _ = writeln!(out, "         {}", s.reason);
+    }
+    let _ = writeln!(out, "assumptions:");
+    for c in &a.checklist {
+        let who =
+            c.by.as_deref()
+                .map(|b| format!(" by {b}"))
+                .unwrap_or_default();
+        let _ = writeln!(out, "  {:<9} {}{}", c.status, c.id, who);
+    }
+    super::print_stdout(&out);
+    Ok(0)
+}

@@ -1,0 +1,60 @@
+//! `surety run`: compute the guarantee and write the report.
+
+use crate::analysis::model::Verdict;
+use crate::error::Error;
+use crate::{output, report, study};
+use std::path::PathBuf;
+
+/// Arguments of `surety run`.
+#[derive(Debug, clap::Args)]
+pub struct Args {
+    /// The study spec (YAML).
+    pub spec: PathBuf,
+    /// Output folder [default: <spec stem>-report/ beside the spec].
+    #[arg(long, value_name = "DIR")]
+    pub out: Option<PathBuf>,
+    /// Print the results JSON on stdout (and nothing else there).
+    #[arg(long)]
+    pub json: bool,
+    /// Exit with status 1 when the verdict is not pass.
+    #[arg(long)]
+    pub gate: bool,
+}
+
+/// Run the study and write its artifacts.
+pub fn run(args: Args) -> Result<i32, Error> {
+    let mut prepared = study::prepare(&args.spec, &super::environment())?;
+    let artifacts = study::render(&mut prepared)?;
+    let out = args
+        .out
+        .clone()
+        .unwrap_or_else(|| study::default_out_dir(&args.spec));
+    output::write_all(
+        &out,
+        &[
+            ("results.json", &artifacts.results_json),
+            ("report.pdf", &artifacts.pdf),
+        ],
+    )?;
+    let wrote = format!(
+        "wrote {} and {}\n",
+        out.join("report.pdf").display(),
+        out.join("results.json").display()
+    );
+    if args.json {
+        super::print_stdout(&String::from_utf8_lossy(&artifacts.results_json));
+        eprint!("{}", report::summary::summary(&prepared.analysis));
+        eprint!("{wrote}");
+    } else {
+        let mut text = report::summary::summary(&prepared.analysis);
+        text.push('\n');
+        text.push_str(&wrote);
+        super::print_stdout(&text);
+    }
+    let code = if args.gate && prepared.analysis.verdict != Verdict::Pass {
+        1
+    } else {
+        0
+    };
+    Ok(code)
+}

@@ -1,0 +1,166 @@
+//! Hashes and dates that bind a result to its inputs: SHA-256 digests and the report date from
+//! the spec or SOURCE_DATE_EPOCH, so the same inputs always give the same bytes.
+
+use sha2::{Digest, Sha256};
+use std::fmt;
+
+/// Lowercase hexadecimal SHA-256 of `bytes`.
+pub fn sha256_hex(bytes: &[u8]) -> String {
+    let digest = Sha256::digest(bytes);
+    let mut out = String::with_capacity(64);
+    for byte in digest {
+        out.push_str(&format!("{byte:02x}"));
+    }
+    out
+}
+
+/// Where the report date came from.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum DateSource {
+    /// `study.date` in the spec.
+    Spec,
+    /// The SOURCE_DATE_EPOCH environment variable.
+    SourceDateEpoch,
+    /// The system clock (neither of the above was given).
+    Clock,
+}
+
+impl DateSource {
+    /// The name written in results.
+    pub fn id(self) -> &'static str {
+        match self {
+            DateSource::Spec => "spec",
+            DateSource::SourceDateEpoch => "SOURCE_DATE_EPOCH",
+            DateSource::Clock => "clock",
+        }
+    }
+}
+
+/// A calendar date (proleptic Gregorian, UTC) used as the report date.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct ReportDate {
+    pub year: i32,
+    pub month: u8,
+    pub day: u8,
+    pub source: DateSource,
+}
+
+impl ReportDate {
+    /// ISO 8601 form, `YYYY-MM-DD`.
+    pub fn iso(&self) -> String {
+        format!("{:04}-{:02}-{:02}", self.year, self.month, self.day)
+    }
+}
+
+/// SOURCE_DATE_EPOCH was set but is not a non-negative whole number of seconds.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct BadSourceDateEpoch(pub String);
+
+impl fmt::Display for BadSourceDateEpoch {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(
+            f,
+            "SOURCE_DATE_EPOCH is `{}`, not a non-negative whole number of seconds since \
+             1970-01-01 UTC",
+            self.0
+        )
+    }
+}
+
+impl std::error::Error for BadSourceDateEpoch {}
+
+/// Pick the report date: the spec's date, else SOURCE_DATE_EPOCH, else the clock reading
+/// `now_unix_seconds` supplied by the caller (the library never reads the clock itself).
+pub fn resolve_date(
+    spec_date: Option<(i32, u8, u8)>,
+    source_date_epoch: Option<&str>,
+    now_unix_seconds: i64,
+) -> Result<ReportDate, BadSourceDateEpoch> {
+    if let Some((year, month, day)) = spec_date {
+        return Ok(ReportDate {
+            year,
+            month,
+            day,
+            source: DateSource::Spec,
+        });
+    }
+    if let Some(text) = source_date_epoch {
+        let trimmed = text.trim();
+        let valid = !trimmed.is_empty() && trimmed.bytes().all(|b| b.is_ascii_digit());
+        let seconds: i64 = if valid {
+            trimmed
+                .parse()
+                .map_err(|_| BadSourceDateEpoch(text.to_string()))?
+        } else {
+            return Err(BadSourceDateEpoch(text.to_string()));
+        };
+        let (year, month, day) = civil_from_unix(seconds);
+        return Ok(ReportDate {
+            year,
+            month,
+            day,
+            source: DateSource::SourceDateEpoch,
+        });
+    }
+    let (year, month, day) = civil_from_unix(now_unix_seconds);
+    Ok(ReportDate {
+        year,
+        month,
+        day,
+        source: DateSource::Clock,
+    })
+}
+
+/// UTC calendar date of a Unix time, by counting 400-year eras of 146 097 days.
+pub fn civil_from_unix(seconds: i64) -> (i32, u8, u8) {
+    let days = seconds.div_euclid(86_400);
+    // Shift the epoch to 0000-03-01 so that the leap day falls at the end of each year.
+    let z = days + 719_468;
+    let era = z.div_euclid(146_097);
+    let day_of_era = z.rem_euclid(146_097);
+    let year_of_era =
+        (day_of_era - day_of_era / 1460 + day_of_era / 36_524 - day_of_era / 146_096) / 365;
+    let day_of_year = day_of_era - (365 * year_of_era + year_of_era / 4 - year_of_era / 100);
+    let month_index = (5 * day_of_year + 2) / 153;
+    let day = (day_of_year - (153 * month_index + 2) / 5 + 1) as u8;
+    let month = if month_index < 10 {
+        month_index + 3
+    } else {
+        month_index - 9
+    } as u8;
+    let year = year_of_era + era * 400 + i64::from(month <= 2);
+    (year as i32, month, day)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    // FIPS 180-4 / NIST example vector: SHA-256("abc").
+    #[test]
+    fn sha256_of_abc() {
+        assert_eq!(
+            sha256_hex(b"abc"),
+            "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad"
+        );
+    }
+
+    // Unix times of known dates (common practice: `date -u -d @N`).
+    #[test]
+    fn unix_times_to_dates() {
+        assert_eq!(civil_from_unix(0), (1970, 1, 1));
+        assert_eq!(civil_from_unix(951_782_400), (2000, 2, 29));
+        assert_eq!(civil_from_unix(1_764_460_800), (2025, 11, 30));
+        assert_eq!(civil_from_unix(-86_400), (1969, 12, 31));
+    }
+
+    #[test]
+    fn malformed_source_date_epoch_is_refused() {
+        for bad in ["", "-5", "12.5", "1e9", "yesterday"] {
+            assert!(resolve_date(None, Some(bad), 0).is_err(), "{bad}");
+        }
+        let d = resolve_date(None, Some("1764460800"), 0).unwrap();
+        assert_eq!(d.iso(), "2025-11-30");
+        assert_eq!(d.source, DateSource::SourceDateEpoch);
+    }
+}

@@ -1,0 +1,18 @@
+//! Turning an [`Analysis`](crate::analysis::model::Analysis) into artifacts a person reads:
+//! results.json ([`json`]), the terminal summary ([`summary`]) and the PDF report.
+//!
+//! The PDF is built in memory: [`plots`] draws SVGs, [`template`] turns the report template into
+//! typst source that reads every value from the results JSON, [`world`] serves those files and
+//! the embedded [`fonts`] to typst, and [`pdf`] compiles and exports the document.
+
+pub mod fonts;
+pub mod json;
+pub mod pdf;
+mod plots;
+pub mod summary;
+pub mod template;
+mod world;
+
+pub use fonts::fonts_sha256;
+pub use pdf::{Diagnostic, Location, ReportError, ReportInputs, Stage, render_pdf};
+pub use template::{default_template, template_sha256};

@@ -1,0 +1,115 @@
+//! The report template: minijinja turns a `*.typ.j2` file into the typst source `main.typ`.
+//!
+//! The template context carries **structure only** — how many arms, which sections exist, the
+//! names of the generated plot files — and never a string or number taken from the study. Every
+//! value the reader sees is read inside typst from `data/results.json` with `json(..)`, so text
+//! written by a user (a title, a note, an arm name) can never become template or typst code,
+//! whatever it contains.
+
+use minijinja::{Environment, UndefinedBehavior, context};
+use sha2::{Digest, Sha256};
+
+use super::fonts::hex;
+use crate::analysis::model::Analysis;
+
+/// The text of the built-in template.
+pub fn default_template() -> &'static str {
+    include_str!("../../templates/report.typ.j2")
+}
+
+/// SHA-256 (lowercase hex) of a template's text, as recorded in provenance.
+pub fn template_sha256(text: &str) -> String {
+    hex(&Sha256::digest(text.as_bytes()))
+}
+
+/// Name under which the template is known in error messages.
+pub(crate) const TEMPLATE_NAME: &str = "report.typ.j2";
+
+/// Path of the generated plot for arm `i` (0-based), relative to the project root.
+pub(crate) fn curve_path(i: usize) -> String {
+    format!("plots/curve-{:02}.svg", i + 1)
+}
+
+/// Path of the chart comparing arms.
+pub(crate) const ARMS_PLOT: &str = "plots/arms.svg";
+
+/// A failure to turn the template into typst source.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub(crate) struct TemplateFailure {
+    pub message: String,
+    pub line: Option<usize>,
+}
+
+/// Renders `template` into the text of `main.typ`.
+///
+/// Context variables (all structural):
+/// - `arms`: list of `{index, number, plot}` — 0-based index into `results.arms`, 1-based
+///   number, and the path of that arm's curve plot;
+/// - `arm_count`, `several_arms` (more than one arm), `arms_plot` (path, or none);
+/// - `methods`: list of `{index}` into `results.methods`; `signatures`: list of `{index}`;
+/// - `has_open`, `has_warnings`, `has_steps`, `has_inputs`, `has_compare`,
+///   `has_lower` (some bound has a lower value), `binary` (binary outcome).
+pub(crate) fn render_main(template: &str, a: &Analysis) -> Result<String, TemplateFailure> {
+    let mut env = Environment::new();
+    // Typst source is not HTML; and an unknown variable is a template bug, never silently "".
+    env.set_auto_escape_callback(|_| minijinja::AutoEscape::None);
+    env.set_undefined_behavior(UndefinedBehavior::Strict);
+    env.add_template(TEMPLATE_NAME, template).map_err(failure)?;
+
+    let several = a.arms.len() > 1;
+    let arms: Vec<_> = (0..a.arms.len())
+        .map(|i| context! { index => i, number => i + 1, plot => curve_path(i) })
+        .collect();
+    let methods: Vec<_> = (0..a.methods.len())
+        .map(|i| context! { index => i })
+        .collect();
+    let signatures: Vec<_> = (0..a.signatures.len())
+        .map(|i| context! { index => i })
+        .collect();
+    let ctx = context! {
+        arms => arms,
+        arm_count => a.arms.len(),
+        several_arms => several,
+        arms_plot => if several { Some(ARMS_PLOT) } else { None },
+        methods => methods,
+        signatures => signatures,
+        has_open => a.checklist.iter().any(|c| c.status == "open"),
+        has_warnings => !a.warnings.is_empty(),
+        has_steps => !a.adjustments.steps.is_empty(),
+        has_inputs => !a.provenance.inputs.is_empty(),
+        has_compare => a.arms.iter().any(|arm| !arm.compare.is_empty()),
+        has_lower => a.arms.iter().any(|arm| {
+            arm.primary.lower.is_some() || arm.compare.iter().any(|c| c.lower.is_some())
+        }),
+        binary => a.outcome.kind == "binary",
+    };
+    env.get_template(TEMPLATE_NAME)
+        .and_then(|t| t.render(ctx))
+        .map_err(failure)
+}
+
+fn failure(e: minijinja::Error) -> TemplateFailure {
+    let mut message = e.kind().to_string();
+    if let Some(detail) = e.detail() {
+        message.push_str(": ");
+        message.push_str(detail);
+    }
+    TemplateFailure {
+        message,
+        line: e.line(),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn template_digest_is_sha256_of_the_text() {
+        // SHA-256("abc") from FIPS 180-2, appendix B.1.
+        assert_eq!(
+            template_sha256("abc"),
+            "ba7816bf8f01cfea414140de5dae2223b00361a396177a9cb410ff61f20015ad"
+        );
+    }
+}

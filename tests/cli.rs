@@ -1,0 +1,367 @@
+//! End-to-end tests of the `surety` binary: every example, the JSON output, exit codes, bad
+//! inputs (located message, exit 2, nothing written) and byte-for-byte reruns.
+
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
+fn surety() -> Command {
+    let mut cmd = Command::new(env!("CARGO_BIN_EXE_surety"));
+    cmd.env_remove("SOURCE_DATE_EPOCH");
+    cmd
+}
+
+fn run(args: &[&str]) -> Output {
+    surety().args(args).output().expect("the binary starts")
+}
+
+fn example(name: &str) -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR"))
+        .join("examples")
+        .join(name)
+        .join("study.yaml")
+}
+
+fn results(dir: &Path) -> serde_json::Value {
+    let bytes = std::fs::read(dir.join("results.json")).expect("results.json written");
+    serde_json::from_slice(&bytes).expect("results.json is JSON")
+}
+
+fn rel(a: f64, b: f64) -> f64 {
+    ((a - b) / b).abs()
+}
+
+const EXAMPLES: &[&str] = &["release-signoff", "lot-comparison", "zero-failure-demo"];
+
+#[test]
+fn every_example_runs_and_writes_both_files() {
+    for name in EXAMPLES {
+        let out = tempfile::tempdir().unwrap();
+        let o = run(&[
+            "run",
+            example(name).to_str().unwrap(),
+            "--out",
+            out.path().to_str().unwrap(),
+        ]);
+        assert!(
+            o.status.success(),
+            "{name}: {}",
+            String::from_utf8_lossy(&o.stderr)
+        );
+        let r = results(out.path());
+        assert_eq!(r["format"], "surety-results/1");
+        let pdf = std::fs::read(out.path().join("report.pdf")).unwrap();
+        assert!(pdf.starts_with(b"%PDF-"), "{name}: report.pdf is a PDF");
+        let stdout = String::from_utf8_lossy(&o.stdout);
+        assert!(
+            stdout.contains(r["study"]["id"].as_str().unwrap()),
+            "{name}: summary names the study"
+        );
+    }
+}
+
+// Expected bounds for the examples come from mpmath (50 digits), printed by
+// tests/reference/examples_reference.py.
+#[test]
+fn release_signoff_matches_reference() {
+    let out = tempfile::tempdir().unwrap();
+    let o = run(&[
+        "run",
+        example("release-signoff").to_str().unwrap(),
+        "--out",
+        out.path().to_str().unwrap(),
+    ]);
+    assert!(o.status.success());
+    let r = results(out.path());
+    let arm = &r["arms"][0];
+    assert_eq!(arm["n"], 2300);
+    assert_eq!(arm["events"], 1);
+    // mpmath: Clopper–Pearson one-sided upper, k = 1, n = 2300, δ = 0.05
+    let upper = arm["primary"]["upper"].as_f64().unwrap();
+    assert!(rel(upper, 0.0020608718757739678) < 1e-10, "{upper}");
+    assert_eq!(r["verdict"], "pass");
+    assert_eq!(arm["primary"]["method"], "exact");
+}
+
+#[test]
+fn lot_comparison_divides_the_budget_among_arms() {
+    let out = tempfile::tempdir().unwrap();
+    let o = run(&[
+        "run",
+        example("lot-comparison").to_str().unwrap(),
+        "--out",
+        out.path().to_str().unwrap(),
+    ]);
+    assert!(o.status.success());
+    let r = results(out.path());
+    // Bonferroni for scope all over 3 arms (METHODS.md §11): δ = 0.05 / 3.
+    assert!(
+        rel(
+            r["adjustments"]["delta_per_bound"].as_f64().unwrap(),
+            0.05 / 3.0
+        ) < 1e-15
+    );
+    // mpmath: Clopper–Pearson one-sided upper at δ = 0.05/3 for each lot.
+    let expected = [
+        0.014521791748431373,
+        0.024643809497941174,
+        0.011784694756163814,
+    ];
+    for (arm, want) in r["arms"].as_array().unwrap().iter().zip(expected) {
+        let got = arm["primary"]["upper"].as_f64().unwrap();
+        assert!(rel(got, want) < 1e-10, "{}: {got} vs {want}", arm["name"]);
+    }
+    // Lot B's bound exceeds the 2 % limit while its lower bound does not: inconclusive.
+    assert_eq!(r["arms"][1]["verdict"], "inconclusive");
+    assert_eq!(r["verdict"], "inconclusive");
+}
+
+// The 59-unit zero-failure plan for 95 % confidence / 95 % reliability (common practice).
+#[test]
+fn zero_failure_demonstration_passes_at_59() {
+    let out = tempfile::tempdir().unwrap();
+    let o = run(&[
+        "run",
+        example("zero-failure-demo").to_str().unwrap(),
+        "--out",
+        out.path().to_str().unwrap(),
+    ]);
+    assert!(o.status.success());
+    let r = results(out.path());
+    assert_eq!(r["verdict"], "pass");
+    // 1 − 0.05^(1/59), mpmath
+    let upper = r["arms"][0]["primary"]["upper"].as_f64().unwrap();
+    assert!(rel(upper, 0.049507609888226947) < 1e-10, "{upper}");
+}
+
+#[test]
+fn json_flag_prints_one_document_on_stdout() {
+    let out = tempfile::tempdir().unwrap();
+    let o = run(&[
+        "run",
+        example("release-signoff").to_str().unwrap(),
+        "--out",
+        out.path().to_str().unwrap(),
+        "--json",
+    ]);
+    assert!(o.status.success());
+    let v: serde_json::Value =
+        serde_json::from_slice(&o.stdout).expect("stdout is exactly one JSON document");
+    assert_eq!(v["format"], "surety-results/1");
+    assert_eq!(v, results(out.path()));
+}
+
+#[test]
+fn gate_sets_exit_one_unless_pass() {
+    let pass = tempfile::tempdir().unwrap();
+    let o = run(&[
+        "run",
+        example("release-signoff").to_str().unwrap(),
+        "--out",
+        pass.path().to_str().unwrap(),
+        "--gate",
+    ]);
+    assert_eq!(o.status.code(), Some(0));
+    let inc = tempfile::tempdir().unwrap();
+    let o = run(&[
+        "run",
+        example("lot-comparison").to_str().unwrap(),
+        "--out",
+        inc.path().to_str().unwrap(),
+        "--gate",
+    ]);
+    assert_eq!(o.status.code(), Some(1));
+    // Without --gate the same inconclusive run exits 0.
+    let o = run(&[
+        "run",
+        example("lot-comparison").to_str().unwrap(),
+        "--out",
+        inc.path().to_str().unwrap(),
+    ]);
+    assert_eq!(o.status.code(), Some(0));
+}
+
+#[test]
+fn two_runs_give_identical_bytes() {
+    let a = tempfile::tempdir().unwrap();
+    let b = tempfile::tempdir().unwrap();
+    for dir in [&a, &b] {
+        let o = run(&[
+            "run",
+            example("release-signoff").to_str().unwrap(),
+            "--out",
+            dir.path().to_str().unwrap(),
+        ]);
+        assert!(o.status.success());
+    }
+    for file in ["results.json", "report.pdf"] {
+        let x = std::fs::read(a.path().join(file)).unwrap();
+        let y = std::fs::read(b.path().join(file)).unwrap();
+        assert!(x == y, "{file} differs between two runs");
+    }
+}
+
+#[test]
+fn results_digest_recomputes_from_the_file() {
+    let out = tempfile::tempdir().unwrap();
+    let o = run(&[
+        "run",
+        example("release-signoff").to_str().unwrap(),
+        "--out",
+        out.path().to_str().unwrap(),
+    ]);
+    assert!(o.status.success());
+    let bytes = std::fs::read(out.path().join("results.json")).unwrap();
+    let mut analysis: surety::analysis::model::Analysis = serde_json::from_slice(&bytes).unwrap();
+    let recorded = analysis.provenance.results_sha256.clone();
+    analysis.provenance.results_sha256.clear();
+    assert_eq!(surety::report::json::canonical_digest(&analysis), recorded);
+    // The spec digest is the SHA-256 of the file's bytes (FIPS 180-4 via the sha2 crate).
+    let spec_bytes = std::fs::read(example("release-signoff")).unwrap();
+    assert_eq!(
+        analysis.provenance.spec.sha256,
+        surety::provenance::sha256_hex(&spec_bytes)
+    );
+}
+
+/// Write `yaml` as study.yaml in a fresh folder, run it, and check exit 2, a located message
+/// naming `line:column` and containing `fragment`, and that no output folder appeared.
+fn assert_bad(yaml: &str, line_col: &str, fragment: &str) {
+    let dir = tempfile::tempdir().unwrap();
+    let spec = dir.path().join("study.yaml");
+    std::fs::write(&spec, yaml).unwrap();
+    for cmd in ["run", "check"] {
+        let o = run(&[cmd, spec.to_str().unwrap()]);
+        let stderr = String::from_utf8_lossy(&o.stderr);
+        assert_eq!(
+            o.status.code(),
+            Some(2),
+            "{cmd} exit code; stderr: {stderr}"
+        );
+        assert!(
+            stderr.contains(&format!("study.yaml:{line_col}")),
+            "{cmd}: location {line_col} in: {stderr}"
+        );
+        assert!(
+            stderr.contains(fragment),
+            "{cmd}: `{fragment}` in: {stderr}"
+        );
+        assert!(
+            !dir.path().join("study-report").exists(),
+            "{cmd} wrote an output folder"
+        );
+    }
+    let entries: Vec<_> = std::fs::read_dir(dir.path()).unwrap().collect();
+    assert_eq!(entries.len(), 1, "only the spec is left in the folder");
+}
+
+const GOOD: &str = "surety: 1
+study:
+  id: T-1
+  title: Test study
+claim:
+  quantity: failure rate
+  side: upper
+  limit: 0.01
+  confidence: 0.95
+outcome:
+  type: binary
+data:
+  trials: 1000
+  events: 2
+";
+
+fn with(from: &str, to: &str) -> String {
+    assert!(GOOD.contains(from), "{from}");
+    GOOD.replace(from, to)
+}
+
+#[test]
+fn the_base_spec_for_bad_input_tests_is_good() {
+    let dir = tempfile::tempdir().unwrap();
+    let spec = dir.path().join("study.yaml");
+    std::fs::write(&spec, GOOD).unwrap();
+    let o = run(&["run", spec.to_str().unwrap()]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    assert!(dir.path().join("study-report/report.pdf").exists());
+}
+
+#[test]
+fn bad_inputs_give_located_errors_and_write_nothing() {
+    assert_bad(&with("events: 2", "events: 1001"), "14:11", "events");
+    assert_bad(&with("trials: 1000", "trials: 0"), "13:11", "trials");
+    assert_bad(&with("events: 2", "events: -2"), "14:11", "events");
+    assert_bad(&with("events: 2", "events: 2.5"), "14:11", "events");
+    assert_bad(&with("limit: 0.01", "limit: 1.5"), "8:10", "limit");
+    assert_bad(&with("limit: 0.01", "limit: 0"), "8:10", "limit");
+    assert_bad(&with("confidence: 0.95", "confidence: 95"), "9:15", "0.95");
+    assert_bad(
+        &with("confidence: 0.95", "confidence: 1.5"),
+        "9:15",
+        "confidence",
+    );
+    assert_bad(&with("side: upper", "sidee: upper"), "7:3", "side");
+    assert_bad(
+        &with("  limit: 0.01\n", "  limit: 0.01\n  limit: 0.02\n"),
+        "9:3",
+        "limit",
+    );
+    assert_bad(
+        &format!("{GOOD}method:\n  primary: exakt\n"),
+        "16:12",
+        "did you mean `exact`",
+    );
+    assert_bad(
+        &format!("{GOOD}attestations:\n  independant-trials: {{by: A. Tester}}\n"),
+        "16:3",
+        "independent-trials",
+    );
+}
+
+#[test]
+fn yaml_one_one_booleans_and_alpha_for_confidence_are_refused() {
+    assert_bad(
+        &format!("{GOOD}report:\n  embed_data: yes\n"),
+        "16:15",
+        "true or false",
+    );
+    assert_bad(
+        &with("confidence: 0.95", "confidence: 0.05"),
+        "9:15",
+        "0.95",
+    );
+}
+
+#[test]
+fn init_writes_a_spec_that_runs_as_it_is_and_never_overwrites() {
+    let dir = tempfile::tempdir().unwrap();
+    let spec = dir.path().join("new.yaml");
+    let o = run(&["init", spec.to_str().unwrap()]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let o = run(&["run", spec.to_str().unwrap()]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    std::fs::write(&spec, "edited by hand\n").unwrap();
+    let o = run(&["init", spec.to_str().unwrap()]);
+    assert_eq!(o.status.code(), Some(2));
+    assert_eq!(std::fs::read_to_string(&spec).unwrap(), "edited by hand\n");
+}
+
+#[test]
+fn methods_json_lists_the_catalogue() {
+    let o = run(&["methods", "--json"]);
+    assert!(o.status.success());
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    let ids: Vec<&str> = v["methods"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|m| m["id"].as_str().unwrap())
+        .collect();
+    assert_eq!(ids, ["exact", "chernoff-kl", "hoeffding"]);
+}
+
+#[test]
+fn a_missing_spec_is_bad_input() {
+    let o = run(&["run", "no-such-file.yaml"]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(String::from_utf8_lossy(&o.stderr).contains("no-such-file.yaml"));
+}

@@ -1,0 +1,399 @@
+//! End-to-end checks of the PDF report: the real typst pipeline on the sample results, read
+//! back with poppler's command-line tools (pdftotext, pdfinfo, pdfdetach from poppler-utils),
+//! which are independent of typst.
+//!
+//! Set SURETY_REPORT_OUT=<dir> to keep the rendered PDFs for inspection.
+
+use std::path::{Path, PathBuf};
+use std::process::Command;
+
+use surety::analysis::model::Analysis;
+use surety::report::{ReportError, ReportInputs, Stage, default_template, render_pdf};
+
+const SAMPLE: &str = include_str!("data/sample-results.json");
+const SPEC: &[u8] =
+    b"surety: 1\nstudy:\n  id: VER-0117\n  title: Gripper drop rate, firmware 4.2\n";
+
+fn sample() -> Analysis {
+    serde_json::from_str(SAMPLE).expect("sample results deserialize into the model")
+}
+
+fn render(a: &Analysis, template: Option<&str>) -> Result<Vec<u8>, ReportError> {
+    let json = serde_json::to_vec_pretty(a).expect("model serializes");
+    render_pdf(&ReportInputs {
+        analysis: a,
+        results_json: &json,
+        spec_name: "study.yaml",
+        spec_bytes: SPEC,
+        template,
+    })
+}
+
+fn tmp_dir(tag: &str) -> PathBuf {
+    let dir = std::env::temp_dir().join(format!("surety-report-test-{}-{tag}", std::process::id()));
+    std::fs::create_dir_all(&dir).expect("temp dir");
+    dir
+}
+
+fn keep(name: &str, pdf: &[u8]) {
+    if let Ok(dir) = std::env::var("SURETY_REPORT_OUT") {
+        std::fs::create_dir_all(&dir).expect("output dir");
+        std::fs::write(Path::new(&dir).join(name), pdf).expect("write pdf");
+    }
+}
+
+fn tool(name: &str, args: &[&str]) -> String {
+    let out = Command::new(name).args(args).output().unwrap_or_else(|e| {
+        panic!("{name} is needed for this test (Debian package poppler-utils): {e}")
+    });
+    assert!(
+        out.status.success(),
+        "{name} {args:?} failed: {}",
+        String::from_utf8_lossy(&out.stderr)
+    );
+    String::from_utf8_lossy(&out.stdout).into_owned()
+}
+
+/// The PDF's text with all whitespace collapsed to single spaces.
+fn text_of(pdf: &[u8], tag: &str) -> String {
+    let path = tmp_dir(tag).join("r.pdf");
+    std::fs::write(&path, pdf).expect("write pdf");
+    let raw = tool("pdftotext", &[path.to_str().unwrap(), "-"]);
+    let _ = std::fs::remove_dir_all(path.parent().unwrap());
+    raw.split_whitespace().collect::<Vec<_>>().join(" ")
+}
+
+fn info_of(pdf: &[u8], tag: &str) -> String {
+    let path = tmp_dir(tag).join("i.pdf");
+    std::fs::write(&path, pdf).expect("write pdf");
+    let info = tool("pdfinfo", &[path.to_str().unwrap()]);
+    let _ = std::fs::remove_dir_all(path.parent().unwrap());
+    info
+}
+
+fn pages(info: &str) -> usize {
+    info.lines()
+        .find_map(|l| l.strip_prefix("Pages:"))
+        .and_then(|v| v.trim().parse().ok())
+        .expect("pdfinfo prints Pages")
+}
+
+#[test]
+fn sample_renders_to_a_plausible_report() {
+    let a = sample();
+    let pdf = render(&a, None).expect("sample renders");
+    keep("report.pdf", &pdf);
+    assert!(pdf.starts_with(b"%PDF-"), "PDF header");
+
+    let info = info_of(&pdf, "sample");
+    let n = pages(&info);
+    assert!((3..=6).contains(&n), "expected 3 to 6 pages, got {n}");
+    // A4 is 595.28 x 841.89 pt (ISO 216; common practice).
+    assert!(info.contains("595.276 x 841.89"), "A4 pages: {info}");
+    assert!(info.contains("Creator:         surety "), "creator: {info}");
+
+    let text = text_of(&pdf, "sample");
+    for needle in [
+        a.statement.as_str(),
+        "page 1 of",
+        &format!("page {n} of {n}"),
+        a.study.id.as_str(),
+        "Exact binomial (Clopper–Pearson)",
+        "PASS",
+        "for information, not the guarantee",
+        "fixed-sample-size",
+        "OPEN",
+        "Attention before sign-off",
+        "sha256sum",
+        "surety run",
+    ] {
+        assert!(text.contains(needle), "report text lacks {needle:?}");
+    }
+    // Every printed bound comes from the display strings.
+    for arm in &a.arms {
+        for b in std::iter::once(&arm.primary).chain(&arm.compare) {
+            for s in [&b.display.upper, &b.display.lower].into_iter().flatten() {
+                assert!(text.contains(s.as_str()), "bound {s} not printed");
+            }
+        }
+    }
+}
+
+#[test]
+fn pdf_is_pdfa3b_and_carries_spec_and_results() {
+    let a = sample();
+    let json = serde_json::to_vec_pretty(&a).unwrap();
+    let pdf = render_pdf(&ReportInputs {
+        analysis: &a,
+        results_json: &json,
+        spec_name: "specs/study.yaml",
+        spec_bytes: SPEC,
+        template: None,
+    })
+    .expect("renders");
+    let raw = String::from_utf8_lossy(&pdf);
+    // XMP identification schema for PDF/A-3b (ISO 19005-3): part 3, conformance B.
+    assert!(raw.contains("<pdfaid:part>3</pdfaid:part>"), "PDF/A part");
+    assert!(
+        raw.contains("<pdfaid:conformance>B</pdfaid:conformance>"),
+        "PDF/A conformance"
+    );
+    assert!(raw.contains("/AFRelationship /Source") || raw.contains("/AFRelationship/Source"));
+
+    let dir = tmp_dir("attach");
+    let path = dir.join("a.pdf");
+    std::fs::write(&path, &pdf).unwrap();
+    let list = tool("pdfdetach", &["-list", path.to_str().unwrap()]);
+    assert!(
+        list.contains("study.yaml") && list.contains("results.json"),
+        "{list}"
+    );
+    tool(
+        "pdfdetach",
+        &[
+            "-saveall",
+            "-o",
+            dir.to_str().unwrap(),
+            path.to_str().unwrap(),
+        ],
+    );
+    assert_eq!(
+        std::fs::read(dir.join("results.json")).unwrap(),
+        json,
+        "results attached as given"
+    );
+    assert_eq!(
+        std::fs::read(dir.join("study.yaml")).unwrap(),
+        SPEC,
+        "spec attached as given"
+    );
+    let _ = std::fs::remove_dir_all(&dir);
+}
+
+#[test]
+fn same_inputs_give_identical_bytes() {
+    let a = sample();
+    let first = render(&a, None).unwrap();
+    let second = render(&a, None).unwrap();
+    assert!(first == second, "two renders differ");
+    // And the digest of the results changes the document identifier, so the bytes differ.
+    let mut b = a.clone();
+    b.provenance.results_sha256 = "4".repeat(64);
+    assert!(render(&b, None).unwrap() != first);
+}
+
+/// Text full of typst and template syntax; `tag` keeps each field's copy distinct.
+fn hostile(tag: &str) -> String {
+    format!(
+        "{tag} #set page(width: 1cm) #import \"@preview/x:1.0\" {{{{ 7*7 }}}} {{% if %}} $x^2$ *bold* <lbl> @ref \\ ] _u_ #{tag}"
+    )
+}
+
+#[test]
+fn user_text_is_shown_literally() {
+    let mut a = sample();
+    a.study.title = hostile("TTL");
+    a.study.owner = Some(hostile("OWN"));
+    a.study.requirement = Some(hostile("REQ"));
+    a.study.description = Some(hostile("DSC"));
+    a.checklist[0].evidence = Some(hostile("NOTE"));
+    a.arms[0].name = hostile("ARM");
+    a.signatures[0].name = Some(hostile("SIG"));
+    let pdf = render(&a, None).expect("hostile text renders");
+    keep("escaping.pdf", &pdf);
+    let text = text_of(&pdf, "hostile");
+    for tag in ["TTL", "OWN", "REQ", "DSC", "NOTE", "ARM", "SIG"] {
+        let expected = hostile(tag);
+        assert!(
+            text.contains(&expected),
+            "{tag}: {expected:?} not printed literally"
+        );
+    }
+    assert!(!text.contains(" 49 "), "template expression was evaluated");
+    // `#set page(width: 1cm)` did not run: pages are still A4.
+    assert!(info_of(&pdf, "hostile").contains("595.276 x 841.89"));
+}
+
+#[test]
+fn several_arms_render() {
+    let mut a = sample();
+    let base = a.arms[0].clone();
+    a.arms = (0..6)
+        .map(|i| {
+            let mut arm = base.clone();
+            arm.name = format!("fw-4.2.{i} station {}", i % 3);
+            arm.n = 4600 + 400 * i as u64;
+            arm.display.n = format!("{},{:03}", arm.n / 1000, arm.n % 1000);
+            arm
+        })
+        .collect();
+    a.arms[5].name = "a rather long arm name that must not break the layout".into();
+    a.adjustments.arms = 6;
+    let pdf = render(&a, None).expect("six arms render");
+    keep("arms.pdf", &pdf);
+    let text = text_of(&pdf, "arms");
+    assert!(
+        text.contains("Deciding upper bound by arm"),
+        "per-arm chart present"
+    );
+    for i in 0..5 {
+        assert!(
+            text.contains(&format!("fw-4.2.{i} station")),
+            "arm {i} listed"
+        );
+    }
+    let n = pages(&info_of(&pdf, "arms"));
+    assert!((4..=9).contains(&n), "six arms on {n} pages");
+}
+
+#[test]
+fn broken_user_template_gives_a_located_error() {
+    let a = sample();
+    let err = render(&a, Some("line one\n{% if %}\n")).expect_err("jinja syntax error");
+    match &err {
+        ReportError::Template {
+            user: true,
+            line: Some(2),
+            ..
+        } => {}
+        other => panic!("unexpected error {other:?}"),
+    }
+    assert!(err.to_string().contains("template line 2"), "{err}");
+
+    // Valid template, broken typst: located in the generated main.typ, blamed on the template.
+    let err = render(&a, Some("= Report\n\n#let x = (1, 2\n")).expect_err("typst syntax error");
+    match &err {
+        ReportError::Typst {
+            stage: Stage::Layout,
+            internal: false,
+            user_template: true,
+            diagnostics,
+        } => {
+            let loc = diagnostics[0].location.as_ref().expect("located");
+            assert_eq!((loc.path.as_str(), loc.line), ("main.typ", 3), "{err}");
+        }
+        other => panic!("unexpected error {other:?}"),
+    }
+    assert!(err.to_string().contains("@ main.typ:3:"), "{err}");
+
+    // Strict undefined: a misspelt context variable is an error, not an empty string.
+    let err = render(&a, Some("{{ arm_cuont }}")).expect_err("undefined variable");
+    assert!(
+        matches!(
+            err,
+            ReportError::Template {
+                user: true,
+                line: Some(1),
+                ..
+            }
+        ),
+        "{err:?}"
+    );
+}
+
+#[test]
+fn packages_and_host_files_are_unreachable() {
+    let a = sample();
+    let err = render(&a, Some("#import \"@preview/example:1.0.0\": *\n")).expect_err("no packages");
+    assert!(err.to_string().contains("packages are disabled"), "{err}");
+    let err = render(&a, Some("#read(\"/etc/hostname\")\n")).expect_err("no host files");
+    assert!(err.to_string().contains("not found"), "{err}");
+}
+
+#[test]
+fn a_minimal_user_template_works_and_reads_data() {
+    let a = sample();
+    let t = "#set text(font: \"Noto Sans\")\n#let R = json(\"data/results.json\")\n= #R.study.id\n{% for arm in arms %}#R.arms.at({{ arm.index }}).name\n{% endfor %}";
+    let pdf = render(&a, Some(t)).expect("user template renders");
+    let text = text_of(&pdf, "user");
+    assert!(text.contains("VER-0117") && text.contains("all"), "{text}");
+    // An unknown font family would silently change the look: it is refused.
+    let err = render(&a, Some("#set text(font: \"Nonexistent Sans\")\nx\n")).expect_err("font");
+    assert!(err.to_string().contains("unknown font family"), "{err}");
+    assert!(!default_template().is_empty());
+}
+
+#[test]
+fn mismatched_results_are_refused() {
+    let a = sample();
+    let mut other = a.clone();
+    other.arms.push(other.arms[0].clone());
+    let json = serde_json::to_vec(&other).unwrap();
+    let err = render_pdf(&ReportInputs {
+        analysis: &a,
+        results_json: &json,
+        spec_name: "study.yaml",
+        spec_bytes: SPEC,
+        template: None,
+    })
+    .expect_err("arm counts differ");
+    assert!(matches!(err, ReportError::Results(_)), "{err:?}");
+}
+
+#[test]
+fn a_fault_in_generated_files_is_reported_as_ours() {
+    // The method formula is our own constant typst math; a broken one is a surety defect and
+    // must be reported as such, located in the generated main.typ.
+    let mut a = sample();
+    a.methods[0].formula_typst = "U = #no-such-function(1)".into();
+    let err = render(&a, None).expect_err("broken formula");
+    assert!(
+        matches!(
+            err,
+            ReportError::Typst {
+                internal: true,
+                user_template: false,
+                ..
+            }
+        ),
+        "{err:?}"
+    );
+    let text = err.to_string();
+    assert!(
+        text.starts_with("internal error in the report template: "),
+        "{text}"
+    );
+    assert!(text.contains("@ main.typ:"), "{text}");
+}
+
+#[test]
+fn optional_parts_render() {
+    let mut a = sample();
+    a.study.owner = None;
+    a.study.requirement = None;
+    a.study.description = None;
+    a.outcome.kind = "bounded".into();
+    a.outcome.event = None;
+    a.outcome.unit = Some("m".into());
+    a.arms[0].events = None;
+    a.arms[0].compare.clear();
+    a.warnings = vec!["The Hoeffding bound is vacuous at this sample size.".into()];
+    a.adjustments.steps = vec![surety::analysis::model::AdjustmentStep {
+        reason: "two planned looks, equal spending".into(),
+        divisor: 2.0,
+        delta_after: 0.025,
+    }];
+    a.provenance.inputs = vec![surety::analysis::model::FileDigest {
+        path: "data/picks-2026-11.csv".into(),
+        sha256: "5".repeat(64),
+    }];
+    a.signatures.clear();
+    a.checklist
+        .iter_mut()
+        .for_each(|c| c.status = "checked".into());
+    let pdf = render(&a, None).expect("optional parts render");
+    keep("optional.pdf", &pdf);
+    let text = text_of(&pdf, "optional");
+    for needle in [
+        "The Hoeffding bound is vacuous at this sample size.",
+        "two planned looks, equal spending",
+        "data/picks-2026-11.csv",
+        "No signature blocks were requested",
+        "Observed mean",
+    ] {
+        assert!(text.contains(needle), "report text lacks {needle:?}");
+    }
+    // Nothing open: no open-assumption notice, but the warning is flagged on page one.
+    assert!(!text.contains("assumption is open"));
+    assert!(text.contains("Attention before sign-off"));
+}
