@@ -365,3 +365,26 @@ fn a_missing_spec_is_bad_input() {
     assert_eq!(o.status.code(), Some(2));
     assert!(String::from_utf8_lossy(&o.stderr).contains("no-such-file.yaml"));
 }
+
+#[test]
+fn a_quadrillion_trials_are_counted_exactly() {
+    let dir = tempfile::tempdir().unwrap();
+    let spec = dir.path().join("study.yaml");
+    std::fs::write(
+        &spec,
+        with("trials: 1000", "trials: 1e15").replace("events: 2", "events: 500000"),
+    )
+    .unwrap();
+    let o = run(&["run", spec.to_str().unwrap(), "--json"]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    let arm = &v["arms"][0];
+    assert_eq!(arm["n"].as_u64(), Some(1_000_000_000_000_000));
+    let (lower, upper) = (
+        arm["primary"]["lower"].as_f64().unwrap(),
+        arm["primary"]["upper"].as_f64().unwrap(),
+    );
+    // The observed rate 5e-10 lies inside; Chernoff-kl is never tighter than exact (METHODS.md §2).
+    assert!(lower < 5e-10 && 5e-10 < upper, "{lower} {upper}");
+    assert!(upper <= arm["compare"][0]["upper"].as_f64().unwrap());
+}

@@ -107,6 +107,13 @@ fn superscript(n: i32) -> String {
 
 /// A limit as written (shortest exact decimal of the f64), in percent: 0.01 → `1 %`.
 pub fn limit_percent(limit: f64) -> String {
+    if limit > 0.0 && limit * 100.0 < 1e-3 {
+        // Shortest round-trip digits of the limit as written, shifted two decades for percent.
+        let text = format!("{limit:e}");
+        let (mantissa, exp) = text.split_once('e').unwrap_or((&text, "0"));
+        let exp: i32 = exp.parse().unwrap_or(0) + 2;
+        return format!("{mantissa} × 10{} %", superscript(exp));
+    }
     let text = format!("{:.10}", limit * 100.0);
     let trimmed = text.trim_end_matches('0').trim_end_matches('.');
     format!("{trimmed} %")
@@ -198,6 +205,8 @@ mod tests {
         assert_eq!(confidence_percent("0.9"), "90 %");
         assert_eq!(limit_percent(0.01), "1 %");
         assert_eq!(limit_percent(0.003), "0.3 %");
+        assert_eq!(limit_percent(1e-9), "1 × 10⁻⁷ %");
+        assert_eq!(limit_percent(2.5e-8), "2.5 × 10⁻⁶ %");
         assert_eq!(probability(0.05), "0.05");
         assert_eq!(probability(0.05 / 3.0), "0.01667");
         assert_eq!(probability(0.025), "0.025");

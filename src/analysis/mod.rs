@@ -467,6 +467,17 @@ fn arm_sentence(claim: &ClaimInfo, side: Side, arm: &ArmResult) -> String {
     let upper = p.upper.clone().unwrap_or_default();
     let lower = p.lower.clone().unwrap_or_default();
     match (side, arm.verdict) {
+        (Side::TwoSided, v) => {
+            let tail = match v {
+                Verdict::Pass => format!("at or below the limit of {limit}: pass."),
+                Verdict::Fail => format!("above the limit of {limit}: fail."),
+                Verdict::Inconclusive => format!(
+                    "an interval that contains the limit of {limit}: inconclusive, more trials \
+                     are needed."
+                ),
+            };
+            format!("With {conf} confidence the {q} lies between {lower} and {upper}, {tail}")
+        }
         (Side::Lower, Verdict::Pass) => format!(
             "With {conf} confidence the {q} is at least {lower}, at or above the limit of {limit}: pass."
         ),

@@ -107,9 +107,22 @@ struct Scale {
 impl Scale {
     fn for_analysis(a: &Analysis) -> Self {
         if a.outcome.kind == "binary" {
+            // Small rates read better per million or per billion than as long decimals of %.
+            let largest = a
+                .arms
+                .iter()
+                .filter_map(deciding_value)
+                .fold(a.claim.limit, f64::max);
+            let (factor, suffix) = if largest >= 1e-3 {
+                (100.0, "%")
+            } else if largest >= 1e-6 {
+                (1e6, "per million")
+            } else {
+                (1e9, "per billion")
+            };
             Scale {
-                factor: 100.0,
-                suffix: "%".into(),
+                factor,
+                suffix: suffix.into(),
             }
         } else {
             Scale {
@@ -217,6 +230,37 @@ fn linear_ticks(hi: f64, target: f64) -> (Vec<f64>, usize) {
 }
 
 /// Groups thousands with commas, matching the model's display strings ("4,600").
+/// A tick label for a number of trials: grouped digits up to ten million, a power-of-ten form
+/// beyond, so that labels of huge campaigns stay short.
+fn trials_label(v: f64) -> String {
+    if v < 1e7 {
+        return group(v);
+    }
+    let exp = v.log10().floor() as i32;
+    let mantissa = v / 10f64.powi(exp);
+    let digits: String = exp
+        .to_string()
+        .chars()
+        .map(|c| match c {
+            '0' => '⁰',
+            '1' => '¹',
+            '2' => '²',
+            '3' => '³',
+            '4' => '⁴',
+            '5' => '⁵',
+            '6' => '⁶',
+            '7' => '⁷',
+            '8' => '⁸',
+            _ => '⁹',
+        })
+        .collect();
+    if (mantissa - 1.0).abs() < 1e-9 {
+        format!("10{digits}")
+    } else {
+        format!("{}×10{digits}", (mantissa * 10.0).round() / 10.0)
+    }
+}
+
 fn group(v: f64) -> String {
     let digits = format!("{}", v.round().max(0.0) as u64);
     let mut out = String::new();
@@ -372,7 +416,11 @@ fn curve_svg(a: &Analysis, arm: &ArmResult, scale: &Scale, small: bool) -> Resul
     let none_label = "no further events".to_string();
     let obs_label = format!(
         "observed: {} trials, bound {}",
-        arm.display.n,
+        if arm.n >= 10_000_000 {
+            trials_label(arm.n as f64)
+        } else {
+            arm.display.n.clone()
+        },
         deciding_display(arm).unwrap_or_else(|| "n/a".into())
     );
     let limit_label = format!("limit {}", a.claim.display.limit);
@@ -407,7 +455,7 @@ fn curve_svg(a: &Analysis, arm: &ArmResult, scale: &Scale, small: bool) -> Resul
             .axis_desc_style(label_font.clone())
             .x_desc("number of trials (log scale)")
             .y_desc(format!("{} bound{}", side, scale.axis_unit()))
-            .x_label_formatter(&|v| group(*v))
+            .x_label_formatter(&|v| trials_label(*v))
             .y_label_formatter(&|v| format!("{:.*}", decimals, v))
             .draw()
             .map_err(|e| e.to_string())?;
