@@ -16,7 +16,7 @@
 //!   about the mean and integrating term by term gives
 //!   `tail = exp(-Lambda) S / (sqrt(2 pi) exp(mu(a) + mu(b) - mu(a+b)))`,
 //!   `S = sum_j (+-1)^j p_j(lam) k_j`, where `k_j` are scaled repeated integrals of the
-//!   normal tail, `lam = a/b`, and the polynomials `p_j` are exact (tools/gen_tables.py).
+//!   normal tail, `lam = a/b`, and the polynomials `p_j` are exact (tests/reference/gen_tables.py).
 //!   The series converges geometrically (ratio about |u|/2.6 + sqrt(j/a)/3.7 with
 //!   u = x/x0 - 1), so it is used for |u| <= [`ASYM_U_MAX`] and a >= [`ASYM_MIN`], and it
 //!   is summed until two consecutive terms fall below 1e-17 of the sum.
