@@ -21,6 +21,20 @@ fn example(name: &str) -> PathBuf {
         .join("study.yaml")
 }
 
+/// Run an example into a fresh output folder, with extra arguments.
+fn run_example(name: &str, extra: &[&str]) -> (Output, tempfile::TempDir) {
+    let out = tempfile::tempdir().unwrap();
+    let spec = example(name);
+    let mut args = vec![
+        "run",
+        spec.to_str().unwrap(),
+        "--out",
+        out.path().to_str().unwrap(),
+    ];
+    args.extend_from_slice(extra);
+    (run(&args), out)
+}
+
 fn results(dir: &Path) -> serde_json::Value {
     let bytes = std::fs::read(dir.join("results.json")).expect("results.json written");
     serde_json::from_slice(&bytes).expect("results.json is JSON")
@@ -35,13 +49,7 @@ const EXAMPLES: &[&str] = &["release-signoff", "lot-comparison", "zero-failure-d
 #[test]
 fn every_example_runs_and_writes_both_files() {
     for name in EXAMPLES {
-        let out = tempfile::tempdir().unwrap();
-        let o = run(&[
-            "run",
-            example(name).to_str().unwrap(),
-            "--out",
-            out.path().to_str().unwrap(),
-        ]);
+        let (o, out) = run_example(name, &[]);
         assert!(
             o.status.success(),
             "{name}: {}",
@@ -63,13 +71,7 @@ fn every_example_runs_and_writes_both_files() {
 // tests/reference/examples_reference.py.
 #[test]
 fn release_signoff_matches_reference() {
-    let out = tempfile::tempdir().unwrap();
-    let o = run(&[
-        "run",
-        example("release-signoff").to_str().unwrap(),
-        "--out",
-        out.path().to_str().unwrap(),
-    ]);
+    let (o, out) = run_example("release-signoff", &[]);
     assert!(o.status.success());
     let r = results(out.path());
     let arm = &r["arms"][0];
@@ -84,13 +86,7 @@ fn release_signoff_matches_reference() {
 
 #[test]
 fn lot_comparison_divides_the_budget_among_arms() {
-    let out = tempfile::tempdir().unwrap();
-    let o = run(&[
-        "run",
-        example("lot-comparison").to_str().unwrap(),
-        "--out",
-        out.path().to_str().unwrap(),
-    ]);
+    let (o, out) = run_example("lot-comparison", &[]);
     assert!(o.status.success());
     let r = results(out.path());
     // Bonferroni for scope all over 3 arms (METHODS.md §11): δ = 0.05 / 3.
@@ -118,13 +114,7 @@ fn lot_comparison_divides_the_budget_among_arms() {
 // The 59-unit zero-failure plan for 95 % confidence / 95 % reliability (common practice).
 #[test]
 fn zero_failure_demonstration_passes_at_59() {
-    let out = tempfile::tempdir().unwrap();
-    let o = run(&[
-        "run",
-        example("zero-failure-demo").to_str().unwrap(),
-        "--out",
-        out.path().to_str().unwrap(),
-    ]);
+    let (o, out) = run_example("zero-failure-demo", &[]);
     assert!(o.status.success());
     let r = results(out.path());
     assert_eq!(r["verdict"], "pass");
@@ -135,14 +125,7 @@ fn zero_failure_demonstration_passes_at_59() {
 
 #[test]
 fn json_flag_prints_one_document_on_stdout() {
-    let out = tempfile::tempdir().unwrap();
-    let o = run(&[
-        "run",
-        example("release-signoff").to_str().unwrap(),
-        "--out",
-        out.path().to_str().unwrap(),
-        "--json",
-    ]);
+    let (o, out) = run_example("release-signoff", &["--json"]);
     assert!(o.status.success());
     let v: serde_json::Value =
         serde_json::from_slice(&o.stdout).expect("stdout is exactly one JSON document");
@@ -152,47 +135,20 @@ fn json_flag_prints_one_document_on_stdout() {
 
 #[test]
 fn gate_sets_exit_one_unless_pass() {
-    let pass = tempfile::tempdir().unwrap();
-    let o = run(&[
-        "run",
-        example("release-signoff").to_str().unwrap(),
-        "--out",
-        pass.path().to_str().unwrap(),
-        "--gate",
-    ]);
+    let (o, _pass) = run_example("release-signoff", &["--gate"]);
     assert_eq!(o.status.code(), Some(0));
-    let inc = tempfile::tempdir().unwrap();
-    let o = run(&[
-        "run",
-        example("lot-comparison").to_str().unwrap(),
-        "--out",
-        inc.path().to_str().unwrap(),
-        "--gate",
-    ]);
+    let (o, _inconclusive) = run_example("lot-comparison", &["--gate"]);
     assert_eq!(o.status.code(), Some(1));
     // Without --gate the same inconclusive run exits 0.
-    let o = run(&[
-        "run",
-        example("lot-comparison").to_str().unwrap(),
-        "--out",
-        inc.path().to_str().unwrap(),
-    ]);
+    let (o, _) = run_example("lot-comparison", &[]);
     assert_eq!(o.status.code(), Some(0));
 }
 
 #[test]
 fn two_runs_give_identical_bytes() {
-    let a = tempfile::tempdir().unwrap();
-    let b = tempfile::tempdir().unwrap();
-    for dir in [&a, &b] {
-        let o = run(&[
-            "run",
-            example("release-signoff").to_str().unwrap(),
-            "--out",
-            dir.path().to_str().unwrap(),
-        ]);
-        assert!(o.status.success());
-    }
+    let (first, a) = run_example("release-signoff", &[]);
+    let (second, b) = run_example("release-signoff", &[]);
+    assert!(first.status.success() && second.status.success());
     for file in ["results.json", "report.pdf"] {
         let x = std::fs::read(a.path().join(file)).unwrap();
         let y = std::fs::read(b.path().join(file)).unwrap();
@@ -202,13 +158,7 @@ fn two_runs_give_identical_bytes() {
 
 #[test]
 fn results_digest_recomputes_from_the_file() {
-    let out = tempfile::tempdir().unwrap();
-    let o = run(&[
-        "run",
-        example("release-signoff").to_str().unwrap(),
-        "--out",
-        out.path().to_str().unwrap(),
-    ]);
+    let (o, out) = run_example("release-signoff", &[]);
     assert!(o.status.success());
     let bytes = std::fs::read(out.path().join("results.json")).unwrap();
     let mut analysis: surety::analysis::model::Analysis = serde_json::from_slice(&bytes).unwrap();

@@ -83,7 +83,8 @@ fn render(digits: f64, scale_exp: i32) -> String {
     )
 }
 
-fn superscript(n: i32) -> String {
+/// An integer in Unicode superscript digits, for powers of ten: −7 → `⁻⁷`.
+pub fn superscript(n: i32) -> String {
     let mut out = String::new();
     if n < 0 {
         out.push('⁻');

@@ -18,21 +18,7 @@ pub fn run(args: Args) -> Result<i32, Error> {
     let a = &prepared.analysis;
     let mut out = String::new();
     let _ = writeln!(out, "{}: the spec is valid", args.spec.display());
-    let _ = writeln!(out, "study    {}  {}", a.study.id, a.study.title);
-    let _ = writeln!(
-        out,
-        "claim    {} {} {} at {} confidence ({}, scope {})",
-        a.claim.quantity,
-        if a.claim.side == "lower" {
-            "≥"
-        } else {
-            "≤"
-        },
-        a.claim.display.limit,
-        a.claim.display.confidence,
-        a.claim.side,
-        a.claim.scope
-    );
+    out.push_str(&crate::report::summary::header(a));
     let trials: u64 = a.arms.iter().map(|r| r.n).sum();
     let events: u64 = a.arms.iter().filter_map(|r| r.events).sum();
     let _ = writeln!(

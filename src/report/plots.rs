@@ -238,22 +238,7 @@ fn trials_label(v: f64) -> String {
     }
     let exp = v.log10().floor() as i32;
     let mantissa = v / 10f64.powi(exp);
-    let digits: String = exp
-        .to_string()
-        .chars()
-        .map(|c| match c {
-            '0' => '⁰',
-            '1' => '¹',
-            '2' => '²',
-            '3' => '³',
-            '4' => '⁴',
-            '5' => '⁵',
-            '6' => '⁶',
-            '7' => '⁷',
-            '8' => '⁸',
-            _ => '⁹',
-        })
-        .collect();
+    let digits = crate::analysis::display::superscript(exp);
     if (mantissa - 1.0).abs() < 1e-9 {
         format!("10{digits}")
     } else {

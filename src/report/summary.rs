@@ -12,24 +12,28 @@ fn verdict_word(v: Verdict) -> &'static str {
     }
 }
 
-/// A few lines: the study, the verdict and statement, a table of arms, open assumptions.
-pub fn summary(a: &Analysis) -> String {
-    let mut out = String::new();
-    let _ = writeln!(out, "{}  {}", a.study.id, a.study.title);
-    let _ = writeln!(
-        out,
-        "claim    {} {} {} at {} confidence ({}, scope {})",
+/// The study line and the claim line that open both `run` and `check` output.
+pub fn header(a: &Analysis) -> String {
+    let relation = if a.claim.side == "lower" {
+        "≥"
+    } else {
+        "≤"
+    };
+    format!(
+        "{}  {}\nclaim    {} {relation} {} at {} confidence ({}, scope {})\n",
+        a.study.id,
+        a.study.title,
         a.claim.quantity,
-        if a.claim.side == "lower" {
-            "≥"
-        } else {
-            "≤"
-        },
         a.claim.display.limit,
         a.claim.display.confidence,
         a.claim.side,
         a.claim.scope
-    );
+    )
+}
+
+/// A few lines: the study, the verdict and statement, a table of arms, open assumptions.
+pub fn summary(a: &Analysis) -> String {
+    let mut out = header(a);
     let _ = writeln!(out, "verdict  {}", verdict_word(a.verdict));
     let _ = writeln!(out, "         {}", a.statement);
     let primary = a.methods.first().map(|m| m.id.as_str()).unwrap_or("");
