@@ -5,6 +5,7 @@
 
 use std::sync::OnceLock;
 
+use crate::provenance::hex;
 use sha2::{Digest, Sha256};
 use typst::foundations::Bytes;
 use typst::text::{Font, FontBook};
@@ -44,17 +45,6 @@ pub fn fonts_sha256() -> String {
         hasher.update(bytes);
     }
     hex(&hasher.finalize())
-}
-
-/// Lowercase hex of a byte string.
-pub(crate) fn hex(bytes: &[u8]) -> String {
-    const DIGITS: &[u8; 16] = b"0123456789abcdef";
-    let mut out = String::with_capacity(bytes.len() * 2);
-    for b in bytes {
-        out.push(DIGITS[(b >> 4) as usize] as char);
-        out.push(DIGITS[(b & 0xf) as usize] as char);
-    }
-    out
 }
 
 /// The parsed faces and the book that indexes them, built once per process.

@@ -16,11 +16,12 @@ use typst::{World, WorldExt};
 use typst_layout::PagedDocument;
 use typst_pdf::{PdfOptions, PdfStandard, PdfStandards, Timestamp};
 
-use super::fonts::{self, hex};
+use super::fonts;
 use super::plots;
 use super::template::{self, ARMS_PLOT, TEMPLATE_NAME, curve_path};
 use super::world::{ReportWorld, file_id};
 use crate::analysis::model::Analysis;
+use crate::provenance::hex;
 
 pub use super::fonts::fonts_sha256;
 pub use super::template::{default_template, template_sha256};

@@ -9,8 +9,8 @@
 use minijinja::{Environment, UndefinedBehavior, context};
 use sha2::{Digest, Sha256};
 
-use super::fonts::hex;
 use crate::analysis::model::Analysis;
+use crate::provenance::hex;
 
 /// The text of the built-in template.
 pub fn default_template() -> &'static str {
