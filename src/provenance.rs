@@ -82,6 +82,21 @@ pub fn resolve_date(
     source_date_epoch: Option<&str>,
     now_unix_seconds: i64,
 ) -> Result<ReportDate, BadSourceDateEpoch> {
+    // A malformed SOURCE_DATE_EPOCH is refused even when the spec's date wins, so that a broken
+    // build environment is noticed rather than silently ignored.
+    let epoch = match source_date_epoch {
+        None => None,
+        Some(text) => {
+            let trimmed = text.trim();
+            if trimmed.is_empty() || !trimmed.bytes().all(|b| b.is_ascii_digit()) {
+                return Err(BadSourceDateEpoch(text.to_string()));
+            }
+            let seconds: i64 = trimmed
+                .parse()
+                .map_err(|_| BadSourceDateEpoch(text.to_string()))?;
+            Some(seconds)
+        }
+    };
     if let Some((year, month, day)) = spec_date {
         return Ok(ReportDate {
             year,
@@ -90,16 +105,7 @@ pub fn resolve_date(
             source: DateSource::Spec,
         });
     }
-    if let Some(text) = source_date_epoch {
-        let trimmed = text.trim();
-        let valid = !trimmed.is_empty() && trimmed.bytes().all(|b| b.is_ascii_digit());
-        let seconds: i64 = if valid {
-            trimmed
-                .parse()
-                .map_err(|_| BadSourceDateEpoch(text.to_string()))?
-        } else {
-            return Err(BadSourceDateEpoch(text.to_string()));
-        };
+    if let Some(seconds) = epoch {
         let (year, month, day) = civil_from_unix(seconds);
         return Ok(ReportDate {
             year,
@@ -162,8 +168,9 @@ mod tests {
 
     #[test]
     fn malformed_source_date_epoch_is_refused() {
-        for bad in ["", "-5", "12.5", "1e9", "yesterday"] {
+        for bad in ["", "-5", "12.5", "1e9", "yesterday", "99999999999999999999"] {
             assert!(resolve_date(None, Some(bad), 0).is_err(), "{bad}");
+            assert!(resolve_date(Some((2026, 1, 1)), Some(bad), 0).is_err(), "{bad}");
         }
         let d = resolve_date(None, Some("1764460800"), 0).unwrap();
         assert_eq!(d.iso(), "2025-11-30");
