@@ -640,7 +640,7 @@ pub fn analyse(spec: &Spec, ctx: &Context) -> Result<Analysis, SpecError> {
         quantity: claim_spec.quantity.clone(),
         side: side_id(side).to_string(),
         limit: claim_spec.limit,
-        confidence: 1.0 - claim_spec.delta,
+        confidence: claim_spec.confidence,
         confidence_text: claim_spec.confidence_text.clone(),
         delta: claim_spec.delta,
         scope: scope_id(claim_spec.scope).to_string(),

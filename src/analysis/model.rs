@@ -75,7 +75,7 @@ pub struct ClaimInfo {
     /// `upper`, `lower` or `two-sided`.
     pub side: String,
     pub limit: f64,
-    /// 1 − δ, for display; computations use `delta`.
+    /// The confidence as a number, read from its decimal text; computations use `delta`.
     pub confidence: f64,
     /// The confidence exactly as written in the spec (`0.95`, `"95%"`).
     pub confidence_text: String,
