@@ -170,7 +170,10 @@ mod tests {
     fn malformed_source_date_epoch_is_refused() {
         for bad in ["", "-5", "12.5", "1e9", "yesterday", "99999999999999999999"] {
             assert!(resolve_date(None, Some(bad), 0).is_err(), "{bad}");
-            assert!(resolve_date(Some((2026, 1, 1)), Some(bad), 0).is_err(), "{bad}");
+            assert!(
+                resolve_date(Some((2026, 1, 1)), Some(bad), 0).is_err(),
+                "{bad}"
+            );
         }
         let d = resolve_date(None, Some("1764460800"), 0).unwrap();
         assert_eq!(d.iso(), "2025-11-30");

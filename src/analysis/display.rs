@@ -1,4 +1,5 @@
-//! Printed forms of numbers. Rates are shown in percent with three significant digits, rounded
+//! Printed forms of numbers. A number and its unit are joined by a no-break space so that a
+//! line never breaks between them. Rates are shown in percent with three significant digits, rounded
 //! outwards: an upper bound up and a lower bound down, so that a printed figure is never less
 //! conservative than the computed one (comparisons with the limit always use unrounded values).
 
@@ -19,10 +20,10 @@ const SIGNIFICANT: i32 = 3;
 pub fn percent(rate: f64, rounding: Rounding) -> String {
     let value = rate * 100.0;
     if value == 0.0 {
-        return "0 %".to_string();
+        return "0\u{a0}%".to_string();
     }
     if value >= 100.0 {
-        return "100 %".to_string();
+        return "100\u{a0}%".to_string();
     }
     let exponent = value.abs().log10().floor() as i32;
     let scale_exp = SIGNIFICANT - 1 - exponent;
@@ -52,10 +53,10 @@ pub fn percent(rate: f64, rounding: Rounding) -> String {
         scale_exp -= 1;
     }
     if digits / 10f64.powi(scale_exp) >= 100.0 {
-        return "100 %".to_string();
+        return "100\u{a0}%".to_string();
     }
     let text = render(digits, scale_exp);
-    format!("{text} %")
+    format!("{text}\u{a0}%")
 }
 
 /// `digits · 10^(−scale_exp)` as decimal text, switching to a power-of-ten form for very small
@@ -77,7 +78,7 @@ fn render(digits: f64, scale_exp: i32) -> String {
     let lead = mantissa / 10f64.powi(SIGNIFICANT - 1);
     exp10 += SIGNIFICANT - 1;
     format!(
-        "{lead:.prec$} × 10{}",
+        "{lead:.prec$}\u{a0}×\u{a0}10{}",
         superscript(exp10),
         prec = (SIGNIFICANT - 1) as usize
     )
@@ -113,11 +114,11 @@ pub fn limit_percent(limit: f64) -> String {
         let text = format!("{limit:e}");
         let (mantissa, exp) = text.split_once('e').unwrap_or((&text, "0"));
         let exp: i32 = exp.parse().unwrap_or(0) + 2;
-        return format!("{mantissa} × 10{} %", superscript(exp));
+        return format!("{mantissa}\u{a0}×\u{a0}10{}\u{a0}%", superscript(exp));
     }
     let text = format!("{:.10}", limit * 100.0);
     let trimmed = text.trim_end_matches('0').trim_end_matches('.');
-    format!("{trimmed} %")
+    format!("{trimmed}\u{a0}%")
 }
 
 /// A probability such as δ with four significant digits, in plain decimals down to 0.0001 and
@@ -156,7 +157,7 @@ pub fn count(n: u64) -> String {
 pub fn confidence_percent(text: &str) -> String {
     let t = text.trim().trim_matches('"');
     if let Some(p) = t.strip_suffix('%') {
-        return format!("{} %", p.trim());
+        return format!("{}\u{a0}%", p.trim());
     }
     let (int, frac) = t.split_once('.').unwrap_or((t, ""));
     let mut frac = frac.to_string();
@@ -168,9 +169,9 @@ pub fn confidence_percent(text: &str) -> String {
     let whole = whole.trim_start_matches('0');
     let whole = if whole.is_empty() { "0" } else { whole };
     if rest.trim_end_matches('0').is_empty() {
-        format!("{whole} %")
+        format!("{whole}\u{a0}%")
     } else {
-        format!("{whole}.{} %", rest.trim_end_matches('0'))
+        format!("{whole}.{}\u{a0}%", rest.trim_end_matches('0'))
     }
 }
 
@@ -178,21 +179,34 @@ pub fn confidence_percent(text: &str) -> String {
 mod tests {
     use super::*;
 
+    fn plain(s: String) -> String {
+        s.replace('\u{a0}', " ")
+    }
+
     // Outward rounding rule of DESIGN.md §6 (printed upper bounds round up, lower bounds down).
     #[test]
     fn upper_bounds_round_up_lower_round_down() {
-        assert_eq!(percent(0.004223226068808206, Rounding::Up), "0.423 %");
-        assert_eq!(percent(0.004223226068808206, Rounding::Down), "0.422 %");
-        assert_eq!(percent(0.0015059311140814427, Rounding::Down), "0.150 %");
-        assert_eq!(percent(0.2, Rounding::Up), "20.0 %");
-        assert_eq!(percent(0.99999, Rounding::Up), "100 %");
-        assert_eq!(percent(0.0, Rounding::Up), "0 %");
+        assert_eq!(
+            plain(percent(0.004223226068808206, Rounding::Up)),
+            "0.423 %"
+        );
+        assert_eq!(
+            plain(percent(0.004223226068808206, Rounding::Down)),
+            "0.422 %"
+        );
+        assert_eq!(
+            plain(percent(0.0015059311140814427, Rounding::Down)),
+            "0.150 %"
+        );
+        assert_eq!(plain(percent(0.2, Rounding::Up)), "20.0 %");
+        assert_eq!(plain(percent(0.99999, Rounding::Up)), "100 %");
+        assert_eq!(plain(percent(0.0, Rounding::Up)), "0 %");
     }
 
     #[test]
     fn tiny_rates_use_powers_of_ten() {
-        assert_eq!(percent(2.9957e-9, Rounding::Up), "3.00 × 10⁻⁷ %");
-        assert_eq!(percent(2.9957e-9, Rounding::Down), "2.99 × 10⁻⁷ %");
+        assert_eq!(plain(percent(2.9957e-9, Rounding::Up)), "3.00 × 10⁻⁷ %");
+        assert_eq!(plain(percent(2.9957e-9, Rounding::Down)), "2.99 × 10⁻⁷ %");
     }
 
     #[test]
@@ -200,14 +214,14 @@ mod tests {
         assert_eq!(count(4600), "4,600");
         assert_eq!(count(1_000_000_000_000_000), "1,000,000,000,000,000");
         assert_eq!(count(999), "999");
-        assert_eq!(confidence_percent("0.95"), "95 %");
-        assert_eq!(confidence_percent("0.999"), "99.9 %");
-        assert_eq!(confidence_percent("\"99.9%\""), "99.9 %");
-        assert_eq!(confidence_percent("0.9"), "90 %");
-        assert_eq!(limit_percent(0.01), "1 %");
-        assert_eq!(limit_percent(0.003), "0.3 %");
-        assert_eq!(limit_percent(1e-9), "1 × 10⁻⁷ %");
-        assert_eq!(limit_percent(2.5e-8), "2.5 × 10⁻⁶ %");
+        assert_eq!(plain(confidence_percent("0.95")), "95 %");
+        assert_eq!(plain(confidence_percent("0.999")), "99.9 %");
+        assert_eq!(plain(confidence_percent("\"99.9%\"")), "99.9 %");
+        assert_eq!(plain(confidence_percent("0.9")), "90 %");
+        assert_eq!(plain(limit_percent(0.01)), "1 %");
+        assert_eq!(plain(limit_percent(0.003)), "0.3 %");
+        assert_eq!(plain(limit_percent(1e-9)), "1 × 10⁻⁷ %");
+        assert_eq!(plain(limit_percent(2.5e-8)), "2.5 × 10⁻⁶ %");
         assert_eq!(probability(0.05), "0.05");
         assert_eq!(probability(0.05 / 3.0), "0.01667");
         assert_eq!(probability(0.025), "0.025");
