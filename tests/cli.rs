@@ -338,3 +338,17 @@ fn a_quadrillion_trials_are_counted_exactly() {
     assert!(lower < 5e-10 && 5e-10 < upper, "{lower} {upper}");
     assert!(upper <= arm["compare"][0]["upper"].as_f64().unwrap());
 }
+
+// The spec shown in README.md must stay a valid spec.
+#[test]
+fn the_readme_spec_example_is_valid() {
+    let readme =
+        std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("README.md")).unwrap();
+    let start = readme.find("```yaml\n").expect("README has a yaml block") + 8;
+    let end = start + readme[start..].find("```").unwrap();
+    let dir = tempfile::tempdir().unwrap();
+    let spec = dir.path().join("study.yaml");
+    std::fs::write(&spec, &readme[start..end]).unwrap();
+    let o = run(&["check", spec.to_str().unwrap()]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+}

@@ -21,12 +21,16 @@ pub fn run(args: Args) -> Result<i32, Error> {
     out.push_str(&crate::report::summary::header(a));
     let trials: u64 = a.arms.iter().map(|r| r.n).sum();
     let events: u64 = a.arms.iter().filter_map(|r| r.events).sum();
+    let plural = |n: u64, word: &str| {
+        let s = if n == 1 { "" } else { "s" };
+        format!("{} {word}{s}", crate::analysis::display::count(n))
+    };
     let _ = writeln!(
         out,
-        "data     {} arm(s), {} trials, {} events",
-        a.arms.len(),
-        crate::analysis::display::count(trials),
-        crate::analysis::display::count(events)
+        "data     {}, {}, {}",
+        plural(a.arms.len() as u64, "arm"),
+        plural(trials, "trial"),
+        plural(events, "event")
     );
     let compare: Vec<&str> = a.methods.iter().skip(1).map(|m| m.id.as_str()).collect();
     let _ = writeln!(
