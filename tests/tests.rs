@@ -7,4 +7,5 @@ mod cli;
 mod coverage;
 mod properties;
 mod report;
+mod robustness;
 mod spec_loading;
