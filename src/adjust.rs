@@ -63,6 +63,7 @@ pub fn divide(delta: f64, divisions: &[Division]) -> Budget {
             reason: division.reason(),
             divisor: divisor as f64,
             delta_after: current,
+            display_delta_after: crate::analysis::display::probability(current),
         });
     }
     Budget {

@@ -366,12 +366,14 @@ fn optional_parts_render() {
     a.outcome.event = None;
     a.outcome.unit = Some("m".into());
     a.arms[0].events = None;
+    a.arms[0].display.events = None;
     a.arms[0].compare.clear();
     a.warnings = vec!["The Hoeffding bound is vacuous at this sample size.".into()];
     a.adjustments.steps = vec![surety::analysis::model::AdjustmentStep {
         reason: "two planned looks, equal spending".into(),
         divisor: 2.0,
         delta_after: 0.025,
+        display_delta_after: "0.025".into(),
     }];
     a.provenance.inputs = vec![surety::analysis::model::FileDigest {
         path: "data/picks-2026-11.csv".into(),

@@ -121,23 +121,60 @@ pub fn limit_percent(limit: f64) -> String {
     format!("{trimmed}\u{a0}%")
 }
 
-/// A probability such as δ with four significant digits, in plain decimals down to 0.0001 and
-/// in exponent form below: 0.05 → `0.05`, 0.05/3 → `0.01667`, 1e-12 → `1e-12`.
+/// A probability such as δ with four significant digits, rounded up (a printed risk is never
+/// smaller than the true one), in plain decimals down to 0.0001 and in exponent form below:
+/// 0.05 → `0.05`, 0.05/3 → `0.01667`, 1e-12 → `1e-12`.
 pub fn probability(p: f64) -> String {
-    if p == 0.0 || !p.is_finite() {
+    if p <= 0.0 || !p.is_finite() {
         return format!("{p}");
     }
+    let exponent = p.log10().floor() as i32;
+    let scale_exp = 3 - exponent;
+    let mut digits = (p * 10f64.powi(scale_exp) * (1.0 - 1e-15)).ceil();
+    while digits / 10f64.powi(scale_exp) < p {
+        digits += 1.0;
+    }
+    let value = digits / 10f64.powi(scale_exp);
     if p >= 1e-4 {
-        let decimals = (3 - p.log10().floor() as i32).max(0) as usize;
-        let text = format!("{p:.decimals$}");
-        let text = text.trim_end_matches('0').trim_end_matches('.');
-        text.to_string()
+        let decimals = scale_exp.max(0) as usize;
+        let text = format!("{value:.decimals$}");
+        text.trim_end_matches('0').trim_end_matches('.').to_string()
     } else {
-        let text = format!("{p:.3e}");
+        let text = format!("{value:.3e}");
         let (mantissa, exp) = text.split_once('e').unwrap_or((&text, "0"));
         let mantissa = mantissa.trim_end_matches('0').trim_end_matches('.');
         format!("{mantissa}e{exp}")
     }
+}
+
+/// A risk in percent with four significant digits, rounded up: 0.05 → `5 %`.
+pub fn risk_percent(p: f64) -> String {
+    // Shift the decimal point of the rounded probability instead of multiplying by 100, which
+    // would round a second time.
+    let text = probability(p);
+    let shifted = match text.split_once('e') {
+        Some((mantissa, exp)) => {
+            let exp: i32 = exp.parse().unwrap_or(0) + 2;
+            format!("{mantissa}e{exp}")
+        }
+        None => {
+            let (int, frac) = text.split_once('.').unwrap_or((&text, ""));
+            let mut frac = frac.to_string();
+            while frac.len() < 2 {
+                frac.push('0');
+            }
+            let (moved, rest) = frac.split_at(2);
+            let whole = format!("{int}{moved}");
+            let whole = whole.trim_start_matches('0');
+            let whole = if whole.is_empty() { "0" } else { whole };
+            if rest.is_empty() {
+                whole.to_string()
+            } else {
+                format!("{whole}.{rest}")
+            }
+        }
+    };
+    format!("{shifted}\u{a0}%")
 }
 
 /// A whole number with thousands separators: 4600 → `4,600`.
@@ -227,5 +264,10 @@ mod tests {
         assert_eq!(probability(0.025), "0.025");
         assert_eq!(probability(1e-12), "1e-12");
         assert_eq!(probability(2.5e-7), "2.5e-7");
+        assert_eq!(probability(0.123456), "0.1235");
+        assert_eq!(plain(risk_percent(0.05)), "5 %");
+        assert_eq!(plain(risk_percent(0.05 / 3.0)), "1.667 %");
+        assert_eq!(plain(risk_percent(0.0005)), "0.05 %");
+        assert_eq!(plain(risk_percent(1e-12)), "1e-10 %");
     }
 }

@@ -647,6 +647,8 @@ pub fn analyse(spec: &Spec, ctx: &Context) -> Result<Analysis, SpecError> {
         display: ClaimDisplay {
             limit: display::limit_percent(claim_spec.limit),
             confidence: display::confidence_percent(&claim_spec.confidence_text),
+            delta: display::probability(claim_spec.delta),
+            false_accept_risk: display::risk_percent(claim_spec.delta),
         },
     };
 
@@ -680,6 +682,8 @@ pub fn analyse(spec: &Spec, ctx: &Context) -> Result<Analysis, SpecError> {
                 display: ArmDisplay {
                     mean: display::percent(mean, Rounding::Nearest),
                     n: display::count(arm.trials),
+                    events: Some(display::count(arm.events)),
+                    delta: display::probability(per_bound),
                 },
             }
         })
@@ -778,6 +782,7 @@ pub fn analyse(spec: &Spec, ctx: &Context) -> Result<Analysis, SpecError> {
             },
             delta_per_bound: per_bound,
             steps: budget.steps,
+            display_delta_per_bound: display::probability(per_bound),
         },
         checklist: checklist(spec, selection.primary, &arms),
         signatures: spec

@@ -91,6 +91,10 @@ pub struct ClaimInfo {
 pub struct ClaimDisplay {
     pub limit: String,
     pub confidence: String,
+    /// The claim's δ, rounded up.
+    pub delta: String,
+    /// The false-accept risk (δ) in percent, rounded up.
+    pub false_accept_risk: String,
 }
 
 /// What a trial yields.
@@ -153,6 +157,10 @@ pub struct ArmResult {
 pub struct ArmDisplay {
     pub mean: String,
     pub n: String,
+    /// Number of events with thousands separators (binary outcomes).
+    pub events: Option<String>,
+    /// The arm's δ per bound, rounded up.
+    pub delta: String,
 }
 
 /// One method's bounds on one arm.
@@ -205,6 +213,8 @@ pub struct Adjustments {
     pub delta_per_bound: f64,
     /// Each division in order, with its reason.
     pub steps: Vec<AdjustmentStep>,
+    /// `delta_per_bound`, rounded up.
+    pub display_delta_per_bound: String,
 }
 
 /// One division of the error budget.
@@ -213,6 +223,8 @@ pub struct AdjustmentStep {
     pub reason: String,
     pub divisor: f64,
     pub delta_after: f64,
+    /// `delta_after`, rounded up.
+    pub display_delta_after: String,
 }
 
 /// A method's catalogue entry, as shown in the method appendix.
