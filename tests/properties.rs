@@ -183,3 +183,19 @@ fn huge_counts_do_not_misbehave() {
         }
     }
 }
+
+/// Found by the random search above: at a very large n and δ above 1/2 the tail is flat far
+/// from the root, and the solver used to crawl until it gave up with the vacuous bound 0.
+/// Reference: at n ≈ 1.4e14 the binomial is normal to far better than the tolerance used
+/// here (common practice), so the lower bound at level δ lies z = Φ⁻¹(δ) = 1.0165634504
+/// (scipy.stats.norm.ppf) standard deviations above k/n.
+#[test]
+fn flat_tail_far_from_the_root_is_bisected() {
+    let (k, n) = (43_612_298_109_217u64, 137_561_870_943_948u64);
+    let delta = 0.845_319_425_597_849_7;
+    let l = exact::lower(k, n, delta);
+    let rate = k as f64 / n as f64;
+    let sd = (rate * (1.0 - rate) / n as f64).sqrt();
+    let want = rate + 1.016_563_450_406_761_8 * sd;
+    assert!((l - want).abs() < 0.01 * sd, "{l} vs {want}");
+}

@@ -112,13 +112,23 @@ fn solve(k: u64, n: u64, delta: f64, ln_delta: f64) -> Prob {
             if newton.abs() <= 1e-7 * scale && second_order.abs() <= 1e-17 * scale {
                 return xn.shifted(margin + second_order.abs()).nudged_up(2);
             }
-            let den = 2.0 * slope + g * (dlnf + slope);
-            let halley = if den > 0.0 { 2.0 * g / den } else { newton };
-            let xh = x.shifted(halley);
-            if below(lo, xh) && below(xh, hi) {
-                next = Some(xh);
-            } else if below(lo, xn) && below(xn, hi) {
-                next = Some(xn);
+            // Far from the root the tail is flat (G' ~ 0) and a local step crawls: bisect
+            // whenever the Newton step is longer than the bracket itself.
+            // Measured where it is held exactly, as `below` compares: p, or 1 - p above 1/2.
+            let width = if lo.p() <= 0.5 || hi.p() <= 0.5 {
+                hi.p() - lo.p()
+            } else {
+                lo.q() - hi.q()
+            };
+            if newton.abs() <= width {
+                let den = 2.0 * slope + g * (dlnf + slope);
+                let halley = if den > 0.0 { 2.0 * g / den } else { newton };
+                let xh = x.shifted(halley);
+                if below(lo, xh) && below(xh, hi) {
+                    next = Some(xh);
+                } else if below(lo, xn) && below(xn, hi) {
+                    next = Some(xn);
+                }
             }
         }
         x = match next {
