@@ -147,32 +147,35 @@ pub fn probability(p: f64) -> String {
     }
 }
 
+/// A plain decimal (`0.0166`) times 100, by moving the decimal point two places, so that no
+/// float arithmetic rounds it again: `0.0166` → `1.66`, `0.95` → `95`. Trailing zeros go.
+fn times_hundred(decimal: &str) -> String {
+    let (int, frac) = decimal.split_once('.').unwrap_or((decimal, ""));
+    let mut frac = frac.to_string();
+    while frac.len() < 2 {
+        frac.push('0');
+    }
+    let (moved, rest) = frac.split_at(2);
+    let whole = format!("{int}{moved}");
+    let whole = whole.trim_start_matches('0');
+    let whole = if whole.is_empty() { "0" } else { whole };
+    let rest = rest.trim_end_matches('0');
+    if rest.is_empty() {
+        whole.to_string()
+    } else {
+        format!("{whole}.{rest}")
+    }
+}
+
 /// A risk in percent with four significant digits, rounded up: 0.05 → `5 %`.
 pub fn risk_percent(p: f64) -> String {
-    // Shift the decimal point of the rounded probability instead of multiplying by 100, which
-    // would round a second time.
     let text = probability(p);
     let shifted = match text.split_once('e') {
         Some((mantissa, exp)) => {
             let exp: i32 = exp.parse().unwrap_or(0) + 2;
             format!("{mantissa}e{exp}")
         }
-        None => {
-            let (int, frac) = text.split_once('.').unwrap_or((&text, ""));
-            let mut frac = frac.to_string();
-            while frac.len() < 2 {
-                frac.push('0');
-            }
-            let (moved, rest) = frac.split_at(2);
-            let whole = format!("{int}{moved}");
-            let whole = whole.trim_start_matches('0');
-            let whole = if whole.is_empty() { "0" } else { whole };
-            if rest.is_empty() {
-                whole.to_string()
-            } else {
-                format!("{whole}.{rest}")
-            }
-        }
+        None => times_hundred(&text),
     };
     format!("{shifted}\u{a0}%")
 }
@@ -196,20 +199,7 @@ pub fn confidence_percent(text: &str) -> String {
     if let Some(p) = t.strip_suffix('%') {
         return format!("{}\u{a0}%", p.trim());
     }
-    let (int, frac) = t.split_once('.').unwrap_or((t, ""));
-    let mut frac = frac.to_string();
-    while frac.len() < 2 {
-        frac.push('0');
-    }
-    let (move_left, rest) = frac.split_at(2);
-    let whole = format!("{int}{move_left}");
-    let whole = whole.trim_start_matches('0');
-    let whole = if whole.is_empty() { "0" } else { whole };
-    if rest.trim_end_matches('0').is_empty() {
-        format!("{whole}\u{a0}%")
-    } else {
-        format!("{whole}.{}\u{a0}%", rest.trim_end_matches('0'))
-    }
+    format!("{}\u{a0}%", times_hundred(t))
 }
 
 #[cfg(test)]
