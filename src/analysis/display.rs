@@ -147,26 +147,6 @@ pub fn probability(p: f64) -> String {
     }
 }
 
-/// A plain decimal (`0.0166`) times 100, by moving the decimal point two places, so that no
-/// float arithmetic rounds it again: `0.0166` → `1.66`, `0.95` → `95`. Trailing zeros go.
-fn times_hundred(decimal: &str) -> String {
-    let (int, frac) = decimal.split_once('.').unwrap_or((decimal, ""));
-    let mut frac = frac.to_string();
-    while frac.len() < 2 {
-        frac.push('0');
-    }
-    let (moved, rest) = frac.split_at(2);
-    let whole = format!("{int}{moved}");
-    let whole = whole.trim_start_matches('0');
-    let whole = if whole.is_empty() { "0" } else { whole };
-    let rest = rest.trim_end_matches('0');
-    if rest.is_empty() {
-        whole.to_string()
-    } else {
-        format!("{whole}.{rest}")
-    }
-}
-
 /// A risk in percent with four significant digits, rounded up: 0.05 → `5 %`.
 pub fn risk_percent(p: f64) -> String {
     let text = probability(p);
@@ -175,7 +155,10 @@ pub fn risk_percent(p: f64) -> String {
             let exp: i32 = exp.parse().unwrap_or(0) + 2;
             format!("{mantissa}e{exp}")
         }
-        None => times_hundred(&text),
+        None => {
+            let (int, frac) = text.split_once('.').unwrap_or((&text, ""));
+            crate::spec::confidence::percent_text(int, frac)
+        }
     };
     format!("{shifted}\u{a0}%")
 }
@@ -191,15 +174,6 @@ pub fn count(n: u64) -> String {
         out.push(c);
     }
     out
-}
-
-/// A confidence written `0.95` or `95%` as a percentage: `95 %`, without any float arithmetic.
-pub fn confidence_percent(text: &str) -> String {
-    let t = text.trim().trim_matches('"');
-    if let Some(p) = t.strip_suffix('%') {
-        return format!("{}\u{a0}%", p.trim());
-    }
-    format!("{}\u{a0}%", times_hundred(t))
 }
 
 #[cfg(test)]
@@ -241,10 +215,6 @@ mod tests {
         assert_eq!(count(4600), "4,600");
         assert_eq!(count(1_000_000_000_000_000), "1,000,000,000,000,000");
         assert_eq!(count(999), "999");
-        assert_eq!(plain(confidence_percent("0.95")), "95 %");
-        assert_eq!(plain(confidence_percent("0.999")), "99.9 %");
-        assert_eq!(plain(confidence_percent("\"99.9%\"")), "99.9 %");
-        assert_eq!(plain(confidence_percent("0.9")), "90 %");
         assert_eq!(plain(limit_percent(0.01)), "1 %");
         assert_eq!(plain(limit_percent(0.003)), "0.3 %");
         assert_eq!(plain(limit_percent(1e-9)), "1 × 10⁻⁷ %");

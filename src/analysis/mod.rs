@@ -646,7 +646,7 @@ pub fn analyse(spec: &Spec, ctx: &Context) -> Result<Analysis, SpecError> {
         scope: scope_id(claim_spec.scope).to_string(),
         display: ClaimDisplay {
             limit: display::limit_percent(claim_spec.limit),
-            confidence: display::confidence_percent(&claim_spec.confidence_text),
+            confidence: format!("{}\u{a0}%", claim_spec.confidence_percent),
             delta: display::probability(claim_spec.delta),
             false_accept_risk: display::risk_percent(claim_spec.delta),
         },

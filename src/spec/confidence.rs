@@ -15,6 +15,8 @@ pub(crate) struct Confidence {
     pub value: f64,
     /// 1 − confidence, computed exactly on the decimal digits, then rounded once to `f64`.
     pub delta: f64,
+    /// The confidence in percent, as decimal text taken from the digits (`95`, `99.9`).
+    pub percent: String,
 }
 
 /// A refusal: the message and, where the intent can be guessed, a hint.
@@ -94,8 +96,9 @@ pub(crate) fn parse_confidence(text: &str, style: Style) -> Result<Confidence, R
     check_fraction(t, if int.is_empty() { "0" } else { int }, frac, false)
 }
 
-/// `int.frac` written as a percentage: (`0`, `95`) → `95`, (`0`, `999`) → `99.9`.
-fn percent_text(int_digits: &str, frac_digits: &str) -> String {
+/// `int.frac` written as a percentage by moving the decimal point on the digits, so nothing is
+/// rounded: (`0`, `95`) → `95`, (`0`, `999`) → `99.9`.
+pub(crate) fn percent_text(int_digits: &str, frac_digits: &str) -> String {
     let digits = format!("{int_digits}{frac_digits}");
     let point = int_digits.len() + 2;
     let padded = format!("{digits:0<point$}");
@@ -205,12 +208,33 @@ fn check_fraction(
     let delta = format!("0.{delta_digits}")
         .parse::<f64>()
         .map_err(|_| (format!("{EXPECTED}, found {written}"), None))?;
-    Ok(Confidence { value, delta })
+    Ok(Confidence {
+        value,
+        delta,
+        percent: percent_text("0", frac),
+    })
 }
 
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    // The printed percentage comes from the digits as written, never from float arithmetic.
+    #[test]
+    fn percent_text_is_carried_for_both_styles() {
+        assert_eq!(
+            parse_confidence("0.999", Style::Plain).unwrap().percent,
+            "99.9"
+        );
+        assert_eq!(
+            parse_confidence("99.9%", Style::Plain).unwrap().percent,
+            "99.9"
+        );
+        assert_eq!(
+            parse_confidence("0.95", Style::Plain).unwrap().percent,
+            "95"
+        );
+    }
 
     #[test]
     fn complement_on_digits() {
@@ -227,5 +251,6 @@ mod tests {
         assert_eq!(percent_text("0", "999"), "99.9");
         assert_eq!(percent_text("0", "05"), "5");
         assert_eq!(percent_text("0", "5"), "50");
+        assert_eq!(percent_text("0", "01667"), "1.667");
     }
 }

@@ -10,7 +10,7 @@
 //!
 //! Only [`load`] touches the file system.
 
-mod confidence;
+pub(crate) mod confidence;
 mod date;
 mod de;
 mod error;

@@ -142,6 +142,8 @@ pub struct Claim {
     pub delta: f64,
     /// The confidence exactly as written in the spec (`0.95`, `95%`), for printing.
     pub confidence_text: String,
+    /// The confidence in percent, from its decimal digits without float arithmetic (`99.9`).
+    pub confidence_percent: String,
     /// Default `each`.
     pub scope: Scope,
 }

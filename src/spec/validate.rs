@@ -188,6 +188,7 @@ fn claim(cx: &Ctx, raw: RawClaim) -> Result<(Claim, f64), RawError> {
         confidence: confidence.value,
         delta: confidence.delta,
         confidence_text: written,
+        confidence_percent: confidence.percent,
         scope: raw.scope.unwrap_or(Scope::Each),
     };
     Ok((claim, raw.limit))
