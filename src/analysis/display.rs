@@ -204,12 +204,15 @@ mod tests {
         assert_eq!(plain(percent(0.0, Rounding::Up)), "0 %");
     }
 
+    // Same outward rule below 0.001 %: 2.9957e-9 is 2.9957 × 10⁻⁷ %, up to 3.00, down to 2.99.
     #[test]
     fn tiny_rates_use_powers_of_ten() {
         assert_eq!(plain(percent(2.9957e-9, Rounding::Up)), "3.00 × 10⁻⁷ %");
         assert_eq!(plain(percent(2.9957e-9, Rounding::Down)), "2.99 × 10⁻⁷ %");
     }
 
+    // Expected strings follow from the inputs by decimal arithmetic alone (thousands grouped in
+    // threes, δ rounded up at four significant digits).
     #[test]
     fn counts_and_confidences() {
         assert_eq!(count(4600), "4,600");
