@@ -9,6 +9,7 @@ pub mod adjust;
 pub mod analysis;
 pub mod bounds;
 pub mod cli;
+pub mod data;
 pub mod error;
 pub mod output;
 pub mod provenance;

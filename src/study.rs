@@ -123,7 +123,17 @@ pub fn prepare(path: &Path, env: &Environment) -> Result<Prepared, Error> {
         template_sha256: report::template_sha256(template_text),
         fonts_sha256: report::fonts_sha256(),
     };
-    let analysis = analysis::analyse(&spec, &ctx)?;
+    let data = match crate::data::inline(&spec) {
+        Some(d) => d,
+        None => {
+            return Err(Error::Spec(spec.error_at(
+                "data.file",
+                "reading trials from a data file is not supported yet",
+                None,
+            )));
+        }
+    };
+    let analysis = analysis::analyse(&spec, &data, &ctx)?;
     Ok(Prepared {
         spec,
         spec_bytes,

@@ -378,6 +378,8 @@ fn optional_parts_render() {
     a.provenance.inputs = vec![surety::analysis::model::FileDigest {
         path: "data/picks-2026-11.csv".into(),
         sha256: "5".repeat(64),
+        bytes: Some(123_456),
+        rows: Some(4_600),
     }];
     a.signatures.clear();
     a.checklist

@@ -30,7 +30,8 @@ fn analyse(text: &str) {
             template_sha256: String::new(),
             fonts_sha256: String::new(),
         };
-        if let Ok(a) = surety::analysis::analyse(&spec, &ctx) {
+        let data = surety::data::inline(&spec).unwrap_or_default();
+        if let Ok(a) = surety::analysis::analyse(&spec, &data, &ctx) {
             for arm in &a.arms {
                 let u = arm.primary.upper.unwrap();
                 let l = arm.primary.lower.unwrap();

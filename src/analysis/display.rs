@@ -163,6 +163,60 @@ pub fn risk_percent(p: f64) -> String {
     format!("{shifted}\u{a0}%")
 }
 
+/// A value in data units with four significant digits, rounded as asked, and its unit if any:
+/// 1.23456 m rounded up → `1.235 m`. Works for negative values (ranges may start below zero).
+pub fn quantity(value: f64, unit: Option<&str>, rounding: Rounding) -> String {
+    let text = decimal_significant(value, 4, rounding);
+    match unit {
+        Some(u) if !u.is_empty() => format!("{text}\u{a0}{u}"),
+        _ => text,
+    }
+}
+
+/// A value as written in the spec (shortest round-trip decimal) with its unit, if any.
+pub fn quantity_exact(value: f64, unit: Option<&str>) -> String {
+    match unit {
+        Some(u) if !u.is_empty() => format!("{value}\u{a0}{u}"),
+        _ => format!("{value}"),
+    }
+}
+
+/// `value` in plain decimals with `sig` significant digits, never on the wrong side of `value`
+/// for directed rounding.
+fn decimal_significant(value: f64, sig: i32, rounding: Rounding) -> String {
+    if value == 0.0 || !value.is_finite() {
+        return format!("{}", if value == 0.0 { 0.0 } else { value });
+    }
+    let exponent = value.abs().log10().floor() as i32;
+    // Cap the decimals so that tiny values print as 0.000000000001 rather than overflowing.
+    let scale_exp = (sig - 1 - exponent).min(15);
+    let scale = 10f64.powi(scale_exp);
+    let mut digits = match rounding {
+        Rounding::Up => (value * scale).ceil(),
+        Rounding::Down => (value * scale).floor(),
+        Rounding::Nearest => (value * scale).round(),
+    };
+    loop {
+        let candidate = digits / scale;
+        let ok = match rounding {
+            Rounding::Up => candidate >= value,
+            Rounding::Down => candidate <= value,
+            Rounding::Nearest => true,
+        };
+        if ok {
+            break;
+        }
+        digits += if rounding == Rounding::Up { 1.0 } else { -1.0 };
+    }
+    let shown = digits / scale;
+    let decimals = scale_exp.max(0) as usize;
+    let text = format!("{shown:.decimals$}");
+    if text.starts_with('-') && text.trim_start_matches(['-', '0', '.']).is_empty() {
+        return text.trim_start_matches('-').to_string();
+    }
+    text
+}
+
 /// A whole number with thousands separators: 4600 → `4,600`.
 pub fn count(n: u64) -> String {
     let digits = n.to_string();
@@ -232,5 +286,20 @@ mod tests {
         assert_eq!(plain(risk_percent(0.05 / 3.0)), "1.667 %");
         assert_eq!(plain(risk_percent(0.0005)), "0.05 %");
         assert_eq!(plain(risk_percent(1e-12)), "1e-10 %");
+    }
+
+    // Four significant digits by decimal arithmetic, outward for directed rounding.
+    #[test]
+    fn quantities_in_data_units() {
+        assert_eq!(plain(quantity(1.23456, Some("m"), Rounding::Up)), "1.235 m");
+        assert_eq!(
+            plain(quantity(1.23456, Some("m"), Rounding::Down)),
+            "1.234 m"
+        );
+        assert_eq!(quantity(-0.012341, None, Rounding::Up), "-0.01234");
+        assert_eq!(quantity(-0.012341, None, Rounding::Down), "-0.01235");
+        assert_eq!(quantity(1234.5, None, Rounding::Up), "1235");
+        assert_eq!(quantity(2.5, None, Rounding::Up), "2.500");
+        assert_eq!(plain(quantity_exact(0.35, Some("m"))), "0.35 m");
     }
 }

@@ -7,10 +7,11 @@ pub mod display;
 pub mod model;
 
 use crate::adjust::{self, Division};
-use crate::bounds::{self, Confirmation, Method};
+use crate::bounds::{self, Confirmation, Method, Needs, Sample};
+use crate::data::{Arm, Dataset, Values};
 use crate::provenance::ReportDate;
 use crate::spec::suggest::closest;
-use crate::spec::{self, DataSource, Side, Spec, SpecError};
+use crate::spec::{self, Side, Spec, SpecError};
 use display::Rounding;
 use model::*;
 
@@ -37,14 +38,6 @@ pub fn tool() -> Tool {
     }
 }
 
-/// Counts of one arm, ready for the bounds.
-#[derive(Debug, Clone)]
-struct ArmCounts {
-    name: String,
-    trials: u64,
-    events: u64,
-}
-
 /// The methods chosen for a study: the primary and the compare methods.
 #[derive(Debug, Clone)]
 pub struct MethodSelection {
@@ -56,20 +49,6 @@ pub struct MethodSelection {
 
 /// Refuse what this version cannot analyse, with a located message, before any computation.
 fn require_supported(spec: &Spec) -> Result<(), SpecError> {
-    if spec.outcome.kind != spec::OutcomeKind::Binary {
-        return Err(spec.error_at(
-            "outcome.type",
-            "bounded outcomes are not analysed by this version of surety",
-            Some("this version handles binary (event / no event) outcomes".to_string()),
-        ));
-    }
-    if let DataSource::File(_) = spec.data.source {
-        return Err(spec.error_at(
-            "data.file",
-            "reading trials from a data file is not supported by this version of surety",
-            Some("give the counts inline: `trials:` and `events:`, or a list of `arms:`".into()),
-        ));
-    }
     if spec.dependence.model != spec::DependenceModel::Independent {
         return Err(spec.error_at(
             "dependence.model",
@@ -133,8 +112,12 @@ fn require_supported(spec: &Spec) -> Result<(), SpecError> {
 ///
 /// `auto` depends on the spec alone, never on the data, so choosing it costs no confidence.
 pub fn select_methods(spec: &Spec) -> Result<MethodSelection, SpecError> {
-    let outcome = bounds::OutcomeKind::Binary;
+    let outcome = outcome_kind(spec);
     let dependence = bounds::Dependence::Independent;
+    let outcome_words = match outcome {
+        bounds::OutcomeKind::Binary => "binary outcomes",
+        bounds::OutcomeKind::Bounded => "bounded outcomes",
+    };
     let ids: Vec<&str> = bounds::CATALOGUE.iter().map(|m| m.id).collect();
     let lookup = |key: &str, id: &str| -> Result<&'static Method, SpecError> {
         let method = bounds::find(id).ok_or_else(|| {
@@ -158,14 +141,15 @@ pub fn select_methods(spec: &Spec) -> Result<MethodSelection, SpecError> {
                 .collect();
             return Err(spec.error_at(
                 key,
-                format!("`{id}` is not valid for binary outcomes from independent trials"),
+                format!("`{id}` is not valid for {outcome_words} from independent trials"),
                 Some(format!("valid methods here: {}", valid.join(", "))),
             ));
         }
         Ok(method)
     };
     let primary = if spec.method.primary == "auto" {
-        bounds::find("exact").expect("the catalogue has the exact method")
+        let id = auto_method(spec);
+        bounds::find(id).expect("the auto rule names catalogue methods")
     } else {
         lookup("method.primary", &spec.method.primary)?
     };
@@ -189,25 +173,6 @@ pub fn select_methods(spec: &Spec) -> Result<MethodSelection, SpecError> {
             .collect();
     }
     Ok(MethodSelection { primary, compare })
-}
-
-fn arms_of(spec: &Spec) -> Vec<ArmCounts> {
-    match &spec.data.source {
-        DataSource::Counts { trials, events } => vec![ArmCounts {
-            name: "all".to_string(),
-            trials: *trials,
-            events: *events,
-        }],
-        DataSource::Arms(arms) => arms
-            .iter()
-            .map(|a| ArmCounts {
-                name: a.name.clone(),
-                trials: a.trials,
-                events: a.events,
-            })
-            .collect(),
-        DataSource::File(_) => Vec::new(),
-    }
 }
 
 fn side_id(side: Side) -> &'static str {
@@ -267,25 +232,127 @@ fn worst(verdicts: impl Iterator<Item = Verdict>) -> Verdict {
     result
 }
 
+/// How the outcome's values map to [0, 1] (where the methods work) and back to data units.
+#[derive(Debug, Clone)]
+struct Scale {
+    /// `Some((a, b))` for bounded outcomes; binary outcomes are already in [0, 1].
+    range: Option<(f64, f64)>,
+    unit: Option<String>,
+}
+
+impl Scale {
+    fn of(spec: &Spec) -> Scale {
+        Scale {
+            range: match spec.outcome.kind {
+                spec::OutcomeKind::Bounded => spec.outcome.range,
+                spec::OutcomeKind::Binary => None,
+            },
+            unit: spec.outcome.unit.clone(),
+        }
+    }
+
+    /// A bound in [0, 1] units as a value in data units, rounded outwards as asked
+    /// (METHODS.md §0.2: a + (b − a)·u).
+    fn to_data(&self, u: f64, rounding: Rounding) -> f64 {
+        let Some((a, b)) = self.range else {
+            return u;
+        };
+        let v = a + (b - a) * u;
+        // The product and the sum are each rounded once; a margin of 2 ulps of the larger
+        // term covers both, so the data-unit bound is never less conservative than u.
+        let margin = 2.0 * f64::EPSILON * (a.abs() + ((b - a) * u).abs());
+        match rounding {
+            Rounding::Up => (v + margin).next_up().min(b),
+            Rounding::Down => (v - margin).next_down().max(a),
+            Rounding::Nearest => v,
+        }
+    }
+
+    fn show(&self, v: f64, rounding: Rounding) -> String {
+        match self.range {
+            None => display::percent(v, rounding),
+            Some(_) => display::quantity(v, self.unit.as_deref(), rounding),
+        }
+    }
+}
+
+/// The outcome kind of the spec, as the catalogue names it.
+fn outcome_kind(spec: &Spec) -> bounds::OutcomeKind {
+    match spec.outcome.kind {
+        spec::OutcomeKind::Binary => bounds::OutcomeKind::Binary,
+        spec::OutcomeKind::Bounded => bounds::OutcomeKind::Bounded,
+    }
+}
+
+/// The `auto` primary method (DESIGN.md §5), decided from the spec alone.
+fn auto_method(spec: &Spec) -> &'static str {
+    match spec.outcome.kind {
+        spec::OutcomeKind::Binary => "exact",
+        spec::OutcomeKind::Bounded => "betting",
+    }
+}
+
+/// Whether a method can be computed from what an arm's data provide.
+fn computable(method: &Method, arm: &Arm) -> bool {
+    match &arm.values {
+        Values::Counts { .. } => method.counts.is_some(),
+        Values::Bounded(v) => match method.bounded {
+            None => false,
+            Some(b) => match b.needs {
+                Needs::Mean | Needs::Moments => true,
+                Needs::Split => v.summary.split.is_some(),
+                Needs::Observations => v.observations.is_some(),
+            },
+        },
+    }
+}
+
+/// Upper and lower bound of one method on one arm, in [0, 1] units, at `delta` per side
+/// (for a method built two-sided and a two-sided claim: `delta` is the interval's total).
+fn raw_bounds(method: &Method, arm: &Arm, delta: f64, two_sided_built: bool) -> (f64, f64) {
+    match &arm.values {
+        Values::Counts { events } => match method.counts {
+            Some(c) => (
+                (c.lower)(*events, arm.n, delta),
+                (c.upper)(*events, arm.n, delta),
+            ),
+            None => (0.0, 1.0),
+        },
+        Values::Bounded(v) => {
+            let sample = Sample {
+                summary: v.summary,
+                observations: v.observations.as_deref(),
+            };
+            match method.bounded {
+                Some(b) => match (two_sided_built, b.interval) {
+                    (true, Some(interval)) => interval(&sample, delta),
+                    _ => ((b.lower)(&sample, delta), (b.upper)(&sample, delta)),
+                },
+                None => (0.0, 1.0),
+            }
+        }
+    }
+}
+
 fn bound_result(
     method: &Method,
-    arm: &ArmCounts,
+    arm: &Arm,
     delta: f64,
     side: Side,
     full: bool,
+    scale: &Scale,
 ) -> BoundResult {
-    let counts = method
-        .counts
-        .expect("binary methods in the catalogue bound counts");
+    let built = side == Side::TwoSided && method.two_sided_built;
+    let (lo, hi) = raw_bounds(method, arm, delta, built);
     let want_upper = full || deciding_is_upper(side);
     let want_lower = full || !deciding_is_upper(side);
-    let upper = want_upper.then(|| (counts.upper)(arm.events, arm.trials, delta));
-    let lower = want_lower.then(|| (counts.lower)(arm.events, arm.trials, delta));
     let vacuous = if deciding_is_upper(side) {
-        upper.is_some_and(|u| u >= 1.0)
+        hi >= 1.0
     } else {
-        lower.is_some_and(|l| l <= 0.0)
+        lo <= 0.0
     };
+    let upper = want_upper.then(|| scale.to_data(hi, Rounding::Up));
+    let lower = want_lower.then(|| scale.to_data(lo, Rounding::Down));
     BoundResult {
         method: method.id.to_string(),
         upper,
@@ -293,8 +360,8 @@ fn bound_result(
         guarantee: method.guarantee.id().to_string(),
         vacuous,
         display: BoundDisplay {
-            upper: upper.map(|u| display::percent(u, Rounding::Up)),
-            lower: lower.map(|l| display::percent(l, Rounding::Down)),
+            upper: upper.map(|u| scale.show(u, Rounding::Up)),
+            lower: lower.map(|l| scale.show(l, Rounding::Down)),
         },
     }
 }
@@ -316,10 +383,14 @@ fn curve_grid(n: u64) -> Vec<u64> {
     grid
 }
 
-fn curve(method: &Method, arm: &ArmCounts, delta: f64, side: Side) -> Curve {
-    let counts = method
-        .counts
-        .expect("binary methods in the catalogue bound counts");
+/// The deciding bound against the number of trials, for binary counts: `None` for bounded
+/// outcomes, whose bounds depend on more than the count of events.
+fn curve(method: &Method, arm: &Arm, delta: f64, side: Side) -> Option<Curve> {
+    let Values::Counts { events } = arm.values else {
+        return None;
+    };
+    let counts = method.counts?;
+    let trials = arm.n;
     let upper = deciding_is_upper(side);
     let bound = |k: u64, m: u64| {
         if upper {
@@ -328,8 +399,8 @@ fn curve(method: &Method, arm: &ArmCounts, delta: f64, side: Side) -> Curve {
             (counts.lower)(k, m, delta)
         }
     };
-    let rate = arm.events as f64 / arm.trials as f64;
-    let grid = curve_grid(arm.trials);
+    let rate = events as f64 / trials as f64;
+    let grid = curve_grid(trials);
     let at_observed_rate = grid
         .iter()
         .map(|&m| {
@@ -339,15 +410,15 @@ fn curve(method: &Method, arm: &ArmCounts, delta: f64, side: Side) -> Curve {
         .collect();
     let no_further_events = grid
         .iter()
-        .filter(|&&m| m >= arm.trials)
-        .map(|&m| [m as f64, bound(arm.events, m)])
+        .filter(|&&m| m >= trials)
+        .map(|&m| [m as f64, bound(events, m)])
         .collect();
-    Curve {
+    Some(Curve {
         bound: if upper { "upper" } else { "lower" }.to_string(),
         at_observed_rate,
         no_further_events,
-        observed: [arm.trials as f64, bound(arm.events, arm.trials)],
-    }
+        observed: [trials as f64, bound(events, trials)],
+    })
 }
 
 /// Smallest number of trials with no events at all whose exact upper bound meets `limit`.
@@ -368,7 +439,67 @@ fn zero_event_trials_needed(limit: f64, delta: f64) -> Option<u64> {
     Some(n)
 }
 
-fn checklist(spec: &Spec, primary: &Method, arms: &[ArmCounts]) -> Vec<ChecklistItem> {
+/// What the data show about an assumption the data can check; `None` when these data cannot
+/// show it (for example a summary given in place of the values).
+fn data_evidence(id: &str, spec: &Spec, arms: &[Arm]) -> Option<String> {
+    match id {
+        "whole-counts" => {
+            let mut trials = 0u64;
+            let mut events = 0u64;
+            for arm in arms {
+                let Values::Counts { events: e } = arm.values else {
+                    return None;
+                };
+                trials = trials.saturating_add(arm.n);
+                events = events.saturating_add(e);
+            }
+            Some(if arms.len() == 1 {
+                format!(
+                    "{} event{} in {} trials, both whole numbers, events ≤ trials",
+                    display::count(events),
+                    if events == 1 { "" } else { "s" },
+                    display::count(trials)
+                )
+            } else {
+                format!(
+                    "{} arms, {} events in {} trials in all; every arm has whole counts \
+                     with events ≤ trials",
+                    arms.len(),
+                    display::count(events),
+                    display::count(trials)
+                )
+            })
+        }
+        "values-in-range" => {
+            let (a, b) = spec.outcome.range?;
+            let unit = spec.outcome.unit.as_deref();
+            let mut n = 0u64;
+            let mut lo = f64::INFINITY;
+            let mut hi = f64::NEG_INFINITY;
+            for arm in arms {
+                let Values::Bounded(v) = &arm.values else {
+                    return None;
+                };
+                // Only values read one by one were checked; a stated summary proves nothing.
+                v.histogram.as_ref()?;
+                n = n.saturating_add(arm.n);
+                lo = lo.min(a + (b - a) * v.summary.min);
+                hi = hi.max(a + (b - a) * v.summary.max);
+            }
+            Some(format!(
+                "all {} values lie in the declared range [{}, {}] (smallest {}, largest {})",
+                display::count(n),
+                display::quantity_exact(a, None),
+                display::quantity_exact(b, unit),
+                display::quantity(lo, unit, Rounding::Nearest),
+                display::quantity(hi, unit, Rounding::Nearest),
+            ))
+        }
+        _ => None,
+    }
+}
+
+fn checklist(spec: &Spec, primary: &Method, arms: &[Arm]) -> Vec<ChecklistItem> {
     primary
         .assumptions
         .iter()
@@ -383,26 +514,12 @@ fn checklist(spec: &Spec, primary: &Method, arms: &[ArmCounts]) -> Vec<Checklist
                 date: None,
                 consequence: a.consequence.to_string(),
             };
-            if a.confirmation == Confirmation::Data && a.id == "whole-counts" {
+            let checked = (a.confirmation == Confirmation::Data)
+                .then(|| data_evidence(a.id, spec, arms))
+                .flatten();
+            if let Some(evidence) = checked {
                 item.status = "checked".to_string();
-                let trials: u64 = arms.iter().map(|a| a.trials).sum();
-                let events: u64 = arms.iter().map(|a| a.events).sum();
-                item.evidence = Some(if arms.len() == 1 {
-                    format!(
-                        "{} event{} in {} trials, both whole numbers, events ≤ trials",
-                        display::count(events),
-                        if events == 1 { "" } else { "s" },
-                        display::count(trials)
-                    )
-                } else {
-                    format!(
-                        "{} arms, {} events in {} trials in all; every arm has whole counts \
-                         with events ≤ trials",
-                        arms.len(),
-                        display::count(events),
-                        display::count(trials)
-                    )
-                });
+                item.evidence = Some(evidence);
             } else if let Some(att) = spec.attestations.get(a.id) {
                 item.status = "attested".to_string();
                 item.by = Some(att.by.clone());
@@ -609,18 +726,94 @@ fn decision_rule(claim: &ClaimInfo, side: Side, primary: &Method, per_bound: f64
     }
 }
 
+/// What a method must be given, in words.
+fn needs_words(method: &Method) -> &'static str {
+    match method.bounded.map(|b| b.needs) {
+        _ if method.counts.is_some() && method.bounded.is_none() => "counts of events",
+        Some(Needs::Observations) => "every observation in trial order (raw data)",
+        Some(Needs::Split) => "the values one by one (raw data), not only their summary",
+        Some(Needs::Moments) => "the number of trials, mean and standard deviation",
+        Some(Needs::Mean) | None => "the number of trials and the mean",
+    }
+}
+
+/// Spread and range of an arm's bounded values, in data units.
+fn value_summary(v: &crate::data::BoundedValues, scale: &Scale) -> ValueSummary {
+    let (a, b) = scale.range.unwrap_or((0.0, 1.0));
+    let s = &v.summary;
+    let sd = v.stated_sd.unwrap_or_else(|| {
+        if s.n < 2 {
+            return 0.0;
+        }
+        let n = s.n as f64;
+        let mean = s.sum / n;
+        let var = ((s.sum_sq - n * mean * mean) / (n - 1.0)).max(0.0);
+        (b - a) * var.sqrt()
+    });
+    let raw = v.histogram.is_some();
+    let min = raw.then_some(a + (b - a) * s.min);
+    let max = raw.then_some(a + (b - a) * s.max);
+    let unit = scale.unit.as_deref();
+    ValueSummary {
+        sd,
+        min,
+        max,
+        histogram: v.histogram.clone(),
+        range: [a, b],
+        display: ValueSummaryDisplay {
+            sd: display::quantity(sd, unit, Rounding::Nearest),
+            min: min.map(|x| display::quantity(x, unit, Rounding::Nearest)),
+            max: max.map(|x| display::quantity(x, unit, Rounding::Nearest)),
+        },
+    }
+}
+
 /// Analyse a study: bounds per arm, verdicts, adjustments, checklist and provenance.
 ///
 /// Errors are located in the spec: a capability this version lacks, or an unknown method or
 /// assumption id. On success `provenance.results_sha256` is empty; it is filled in when the
 /// results are serialised ([`crate::report::json`]).
-pub fn analyse(spec: &Spec, ctx: &Context) -> Result<Analysis, SpecError> {
+pub fn analyse(spec: &Spec, data: &Dataset, ctx: &Context) -> Result<Analysis, SpecError> {
     require_supported(spec)?;
-    let selection = select_methods(spec)?;
+    let mut selection = select_methods(spec)?;
     let claim_spec = &spec.claim;
     let side = claim_spec.side;
-    let arms = arms_of(spec);
+    let scale = Scale::of(spec);
+    let arms = &data.arms;
+    if arms.is_empty() {
+        return Err(spec.error_at("data", "the data hold no trials", None));
+    }
     let k = arms.len() as u64;
+
+    // A method the data cannot feed: the primary is an error (it is the guarantee), a compare
+    // method is left out with a note saying what it would have needed.
+    let mut omitted = Vec::new();
+    if let Some(arm) = arms.iter().find(|a| !computable(selection.primary, a)) {
+        return Err(spec.error_at(
+            "method.primary",
+            format!(
+                "`{}` needs {}, which the data of arm {} do not provide",
+                selection.primary.id,
+                needs_words(selection.primary),
+                arm.name
+            ),
+            Some(
+                "give the data as a file with one row per trial, or choose a method that \
+                  works from a summary (see `surety methods`)"
+                    .to_string(),
+            ),
+        ));
+    }
+    selection.compare.retain(|m| {
+        let ok = arms.iter().all(|a| computable(m, a));
+        if !ok {
+            omitted.push(OmittedMethod {
+                method: m.id.to_string(),
+                reason: format!("needs {}, which the data do not provide", needs_words(m)),
+            });
+        }
+        ok
+    });
 
     let mut divisions = Vec::new();
     if k > 1 {
@@ -635,7 +828,22 @@ pub fn analyse(spec: &Spec, ctx: &Context) -> Result<Analysis, SpecError> {
     }
     let budget = adjust::divide(claim_spec.delta, &divisions);
     let per_bound = budget.delta_per_bound;
+    // A compare method built differently from the primary still spends the same total δ:
+    // one not built two-sided splits it, one built two-sided takes both halves at once.
+    let delta_for = |m: &Method| match (
+        side == Side::TwoSided,
+        selection.primary.two_sided_built,
+        m.two_sided_built,
+    ) {
+        (true, true, false) => per_bound / 2.0,
+        (true, false, true) => per_bound * 2.0,
+        _ => per_bound,
+    };
 
+    let limit_display = match scale.range {
+        None => display::limit_percent(claim_spec.limit),
+        Some(_) => display::quantity_exact(claim_spec.limit, scale.unit.as_deref()),
+    };
     let claim = ClaimInfo {
         quantity: claim_spec.quantity.clone(),
         side: side_id(side).to_string(),
@@ -645,7 +853,7 @@ pub fn analyse(spec: &Spec, ctx: &Context) -> Result<Analysis, SpecError> {
         delta: claim_spec.delta,
         scope: scope_id(claim_spec.scope).to_string(),
         display: ClaimDisplay {
-            limit: display::limit_percent(claim_spec.limit),
+            limit: limit_display,
             confidence: format!("{}\u{a0}%", claim_spec.confidence_percent),
             delta: display::probability(claim_spec.delta),
             false_accept_risk: display::risk_percent(claim_spec.delta),
@@ -656,33 +864,41 @@ pub fn analyse(spec: &Spec, ctx: &Context) -> Result<Analysis, SpecError> {
     let arm_results: Vec<ArmResult> = arms
         .iter()
         .map(|arm| {
-            let primary = bound_result(selection.primary, arm, per_bound, side, true);
+            let primary = bound_result(selection.primary, arm, per_bound, side, true, &scale);
             let compare = selection
                 .compare
                 .iter()
-                .map(|m| bound_result(m, arm, per_bound, side, false))
+                .map(|m| bound_result(m, arm, delta_for(m), side, false, &scale))
                 .collect();
             let v = verdict(
                 side,
                 claim_spec.limit,
-                primary.lower.unwrap_or(0.0),
-                primary.upper.unwrap_or(1.0),
+                primary.lower.unwrap_or(f64::NEG_INFINITY),
+                primary.upper.unwrap_or(f64::INFINITY),
             );
-            let mean = arm.events as f64 / arm.trials as f64;
+            let (mean, events, values) = match &arm.values {
+                Values::Counts { events } => (*events as f64 / arm.n as f64, Some(*events), None),
+                Values::Bounded(b) => (
+                    scale.to_data(b.summary.mean(), Rounding::Nearest),
+                    None,
+                    Some(value_summary(b, &scale)),
+                ),
+            };
             ArmResult {
                 name: arm.name.clone(),
-                n: arm.trials,
-                events: Some(arm.events),
+                n: arm.n,
+                events,
                 mean,
                 delta: per_bound,
                 primary,
                 compare,
                 verdict: v,
                 curve: curve(selection.primary, arm, per_bound, side),
+                values,
                 display: ArmDisplay {
-                    mean: display::percent(mean, Rounding::Nearest),
-                    n: display::count(arm.trials),
-                    events: Some(display::count(arm.events)),
+                    mean: scale.show(mean, Rounding::Nearest),
+                    n: display::count(arm.n),
+                    events: events.map(display::count),
                     delta: display::probability(per_bound),
                 },
             }
@@ -722,6 +938,7 @@ pub fn analyse(spec: &Spec, ctx: &Context) -> Result<Analysis, SpecError> {
         }
         if arm.verdict == Verdict::Inconclusive
             && deciding_is_upper(side)
+            && arm.events.is_some()
             && let Some(needed) = zero_event_trials_needed(claim_spec.limit, per_bound)
             && needed > arm.n
         {
@@ -760,7 +977,12 @@ pub fn analyse(spec: &Spec, ctx: &Context) -> Result<Analysis, SpecError> {
             description: study.description.clone(),
         },
         outcome: OutcomeInfo {
-            kind: "binary".to_string(),
+            kind: match spec.outcome.kind {
+                spec::OutcomeKind::Binary => "binary",
+                spec::OutcomeKind::Bounded => "bounded",
+            }
+            .to_string(),
+            range: scale.range.map(|(a, b)| [a, b]),
             event: spec.outcome.event.clone(),
             unit: spec.outcome.unit.clone(),
         },
@@ -784,7 +1006,7 @@ pub fn analyse(spec: &Spec, ctx: &Context) -> Result<Analysis, SpecError> {
             steps: budget.steps,
             display_delta_per_bound: display::probability(per_bound),
         },
-        checklist: checklist(spec, selection.primary, &arms),
+        checklist: checklist(spec, selection.primary, arms),
         signatures: spec
             .signatures
             .iter()
@@ -798,13 +1020,25 @@ pub fn analyse(spec: &Spec, ctx: &Context) -> Result<Analysis, SpecError> {
         arms: arm_results,
         methods,
         cautions: cautions(),
+        omitted_methods: omitted,
         warnings,
         provenance: Provenance {
             spec: FileDigest {
                 path: ctx.spec_name.clone(),
                 sha256: ctx.spec_sha256.clone(),
+                bytes: None,
+                rows: None,
             },
-            inputs: Vec::new(),
+            inputs: data
+                .inputs
+                .iter()
+                .map(|f| FileDigest {
+                    path: f.path.clone(),
+                    sha256: f.sha256.clone(),
+                    bytes: Some(f.bytes),
+                    rows: Some(f.rows),
+                })
+                .collect(),
             tool_version: format!("surety {}", env!("CARGO_PKG_VERSION")),
             template_sha256: ctx.template_sha256.clone(),
             fonts_sha256: ctx.fonts_sha256.clone(),
@@ -870,6 +1104,12 @@ mod tests {
         }
     }
 
+    fn run(yaml: &str) -> Analysis {
+        let s = spec(yaml);
+        let data = crate::data::inline(&s).expect("inline data");
+        analyse(&s, &data, &ctx()).unwrap()
+    }
+
     const ARMS: &str = "surety: 1
 study: {id: T, title: t}
 claim: {quantity: rate, side: upper, limit: 0.05, confidence: 0.95, scope: SCOPE}
@@ -884,11 +1124,11 @@ data:
     // Bonferroni over K = 3 arms for `all` and `best` (METHODS.md §11); `each` keeps δ.
     #[test]
     fn scope_sets_the_budget_and_the_selected_arm() {
-        let each = analyse(&spec(&ARMS.replace("SCOPE", "each")), &ctx()).unwrap();
+        let each = run(&ARMS.replace("SCOPE", "each"));
         assert_eq!(each.adjustments.delta_per_bound, 0.05);
-        let all = analyse(&spec(&ARMS.replace("SCOPE", "all")), &ctx()).unwrap();
+        let all = run(&ARMS.replace("SCOPE", "all"));
         assert_eq!(all.adjustments.delta_per_bound, 0.05 / 3.0);
-        let best = analyse(&spec(&ARMS.replace("SCOPE", "best")), &ctx()).unwrap();
+        let best = run(&ARMS.replace("SCOPE", "best"));
         assert_eq!(best.adjustments.delta_per_bound, 0.05 / 3.0);
         // Arm b has the lowest observed rate, so it is the one certified.
         assert!(
@@ -903,7 +1143,7 @@ data:
         let yaml = ARMS
             .replace("side: upper", "side: two-sided")
             .replace("SCOPE", "each");
-        let a = analyse(&spec(&yaml), &ctx()).unwrap();
+        let a = run(&yaml);
         assert_eq!(a.adjustments.delta_per_bound, 0.025);
         assert_eq!(a.adjustments.sides, 2);
     }

@@ -41,6 +41,9 @@ pub struct Analysis {
     pub signatures: Vec<SignatureBlock>,
     /// Standing cautions printed with every result.
     pub cautions: Vec<String>,
+    /// Compare methods the data could not feed, and why.
+    #[serde(default)]
+    pub omitted_methods: Vec<OmittedMethod>,
     /// Remarks about this particular analysis (for example a vacuous bound).
     pub warnings: Vec<String>,
     /// Hashes that bind this result to its inputs.
@@ -105,6 +108,8 @@ pub struct OutcomeInfo {
     pub kind: String,
     /// What a 1 means, for binary outcomes.
     pub event: Option<String>,
+    /// The declared range [a, b] of a bounded outcome.
+    pub range: Option<[f64; 2]>,
     pub unit: Option<String>,
 }
 
@@ -147,9 +152,41 @@ pub struct ArmResult {
     /// Bounds of the compare methods, for information only: never the guarantee.
     pub compare: Vec<BoundResult>,
     pub verdict: Verdict,
-    /// The bound that decides the claim as a function of the number of trials.
-    pub curve: Curve,
+    /// The bound that decides the claim as a function of the number of trials (binary counts).
+    pub curve: Option<Curve>,
+    /// Spread and range of the values (bounded outcomes).
+    pub values: Option<ValueSummary>,
     pub display: ArmDisplay,
+}
+
+/// Spread and range of one arm's bounded values, in data units.
+#[derive(Debug, Clone, Serialize, Deserialize)]
+pub struct ValueSummary {
+    /// Sample standard deviation (n − 1 in the denominator).
+    pub sd: f64,
+    /// Smallest and largest value, when the values were read one by one.
+    pub min: Option<f64>,
+    pub max: Option<f64>,
+    /// Counts in equal bins over `range`, when the values were read one by one.
+    pub histogram: Option<Vec<u64>>,
+    /// The declared range [a, b].
+    pub range: [f64; 2],
+    pub display: ValueSummaryDisplay,
+}
+
+/// Printed forms of a value summary (nearest rounding: these guarantee nothing).
+#[derive(Debug, Clone, Serialize, Deserialize)]
+pub struct ValueSummaryDisplay {
+    pub sd: String,
+    pub min: Option<String>,
+    pub max: Option<String>,
+}
+
+/// A compare method left out because the data could not feed it.
+#[derive(Debug, Clone, Serialize, Deserialize)]
+pub struct OmittedMethod {
+    pub method: String,
+    pub reason: String,
 }
 
 /// Printed forms of an arm's numbers.
@@ -284,4 +321,10 @@ pub struct Provenance {
 pub struct FileDigest {
     pub path: String,
     pub sha256: String,
+    /// Size in bytes (data files).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub bytes: Option<u64>,
+    /// Number of data rows (data files).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub rows: Option<u64>,
 }

@@ -52,3 +52,13 @@ pub fn lower_mean(mean: f64, n: u64, delta: f64) -> f64 {
     }
     kl_inv_lower_prob(Prob::new(mean), budget(n, delta)).p_down()
 }
+
+/// [`upper_mean`] on a bounded sample rescaled to [0, 1].
+pub fn upper_sample(sample: &crate::bounds::Sample, delta: f64) -> f64 {
+    upper_mean(sample.summary.mean(), sample.summary.n, delta)
+}
+
+/// [`lower_mean`] on a bounded sample rescaled to [0, 1].
+pub fn lower_sample(sample: &crate::bounds::Sample, delta: f64) -> f64 {
+    lower_mean(sample.summary.mean(), sample.summary.n, delta)
+}

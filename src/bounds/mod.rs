@@ -7,6 +7,9 @@
 pub mod chernoff_kl;
 pub mod exact;
 pub mod hoeffding;
+pub mod sample;
+
+pub use sample::{Needs, Sample, Summary};
 
 use serde::Serialize;
 
@@ -89,6 +92,26 @@ pub struct CountBounds {
     pub lower: fn(u64, u64, f64) -> f64,
 }
 
+/// A two-sided interval `(lower, upper)` from a bounded sample at total error delta.
+pub type IntervalFn = fn(&Sample, f64) -> (f64, f64);
+
+/// One-sided bounds (and, for methods built two-sided, an interval) on the mean of values
+/// rescaled to [0, 1]: `(sample, delta) -> bound`.
+///
+/// Each bound covers the true mean with probability at least 1 − delta when the sample holds
+/// what [`BoundedBounds::needs`] says; given less, it returns the vacuous bound (1 or 0).
+#[derive(Debug, Clone, Copy)]
+pub struct BoundedBounds {
+    /// What the method must be given.
+    pub needs: Needs,
+    /// One-sided upper bound.
+    pub upper: fn(&Sample, f64) -> f64,
+    /// One-sided lower bound.
+    pub lower: fn(&Sample, f64) -> f64,
+    /// A two-sided interval at total error delta, for methods built two-sided.
+    pub interval: Option<IntervalFn>,
+}
+
 /// A catalogue entry: everything the program knows about one method.
 #[derive(Debug, Clone, Serialize)]
 pub struct Method {
@@ -115,6 +138,9 @@ pub struct Method {
     /// Bounds from counts, for binary outcomes.
     #[serde(skip)]
     pub counts: Option<CountBounds>,
+    /// Bounds from bounded observations rescaled to [0, 1].
+    #[serde(skip)]
+    pub bounded: Option<BoundedBounds>,
 }
 
 impl Method {
@@ -202,6 +228,7 @@ pub static CATALOGUE: &[Method] = &[
             upper: exact::upper,
             lower: exact::lower,
         }),
+        bounded: None,
     },
     Method {
         id: "chernoff-kl",
@@ -229,6 +256,12 @@ pub static CATALOGUE: &[Method] = &[
             upper: chernoff_kl::upper,
             lower: chernoff_kl::lower,
         }),
+        bounded: Some(BoundedBounds {
+            needs: Needs::Mean,
+            upper: chernoff_kl::upper_sample,
+            lower: chernoff_kl::lower_sample,
+            interval: None,
+        }),
     },
     Method {
         id: "hoeffding",
@@ -253,6 +286,12 @@ pub static CATALOGUE: &[Method] = &[
         counts: Some(CountBounds {
             upper: hoeffding::upper,
             lower: hoeffding::lower,
+        }),
+        bounded: Some(BoundedBounds {
+            needs: Needs::Mean,
+            upper: hoeffding::upper_sample,
+            lower: hoeffding::lower_sample,
+            interval: None,
         }),
     },
 ];

@@ -17,7 +17,7 @@ use plotters::prelude::*;
 use plotters::style::FontStyle;
 
 use super::fonts::{SANS_BOLD, SANS_FAMILY, SANS_REGULAR};
-use crate::analysis::model::{Analysis, ArmResult};
+use crate::analysis::model::{Analysis, ArmResult, Curve};
 
 const INK: RGBColor = RGBColor(0x22, 0x25, 0x2a);
 const GRID: RGBColor = RGBColor(0xe2, 0xe4, 0xe8);
@@ -111,7 +111,7 @@ impl Scale {
             let largest = a
                 .arms
                 .iter()
-                .filter_map(deciding_value)
+                .filter_map(|arm| deciding_value(a, arm))
                 .fold(a.claim.limit, f64::max);
             let (factor, suffix) = if largest >= 1e-3 {
                 (100.0, "%")
@@ -146,10 +146,15 @@ pub(crate) fn render_plots(a: &Analysis) -> Result<PlotSet, String> {
     register_fonts()?;
     let scale = Scale::for_analysis(a);
     let several = a.arms.len() > 1;
+    // One curve per arm that has one (binary counts), in arm order.
     let curves = a
         .arms
         .iter()
-        .map(|arm| curve_svg(a, arm, &scale, several))
+        .filter_map(|arm| {
+            arm.curve
+                .as_ref()
+                .map(|c| curve_svg(a, arm, c, &scale, several))
+        })
         .collect::<Result<Vec<_>, _>>()?;
     let arms = if several {
         Some(arms_svg(a, &scale)?)
@@ -347,13 +352,18 @@ fn legend<DB: DrawingBackend>(
 }
 
 /// The deciding bound of one arm against the number of trials.
-fn curve_svg(a: &Analysis, arm: &ArmResult, scale: &Scale, small: bool) -> Result<String, String> {
+fn curve_svg(
+    a: &Analysis,
+    arm: &ArmResult,
+    curve: &Curve,
+    scale: &Scale,
+    small: bool,
+) -> Result<String, String> {
     let (w, h, font_px, title_px) = if small {
         (440, 330, 16, 17)
     } else {
         (660, 350, 14, 16)
     };
-    let curve = &arm.curve;
     let held: Vec<(f64, f64)> = finite(&curve.at_observed_rate).collect();
     let none: Vec<(f64, f64)> = finite(&curve.no_further_events).collect();
     let obs = (curve.observed[0], curve.observed[1]);
@@ -406,7 +416,7 @@ fn curve_svg(a: &Analysis, arm: &ArmResult, scale: &Scale, small: bool) -> Resul
         } else {
             arm.display.n.clone()
         },
-        deciding_display(arm).unwrap_or_else(|| "n/a".into())
+        deciding_display(a, arm).unwrap_or_else(|| "n/a".into())
     );
     let limit_label = format!("limit {}", a.claim.display.limit);
 
@@ -518,16 +528,25 @@ fn a_confidence(a: &Analysis) -> String {
     format!("{} confidence", a.claim.display.confidence)
 }
 
-fn deciding_value(arm: &ArmResult) -> Option<f64> {
-    if arm.curve.bound == "lower" {
+/// `lower` for a lower-side claim, else `upper`: the bound that decides a pass.
+fn deciding_side(a: &Analysis) -> &'static str {
+    if a.claim.side == "lower" {
+        "lower"
+    } else {
+        "upper"
+    }
+}
+
+fn deciding_value(a: &Analysis, arm: &ArmResult) -> Option<f64> {
+    if deciding_side(a) == "lower" {
         arm.primary.lower
     } else {
         arm.primary.upper
     }
 }
 
-fn deciding_display(arm: &ArmResult) -> Option<String> {
-    if arm.curve.bound == "lower" {
+fn deciding_display(a: &Analysis, arm: &ArmResult) -> Option<String> {
+    if deciding_side(a) == "lower" {
         arm.primary.display.lower.clone()
     } else {
         arm.primary.display.upper.clone()
@@ -544,7 +563,7 @@ fn arms_svg(a: &Analysis, scale: &Scale) -> Result<String, String> {
     let xmax_raw = a
         .arms
         .iter()
-        .flat_map(|arm| [Some(arm.mean), deciding_value(arm)])
+        .flat_map(|arm| [Some(arm.mean), deciding_value(a, arm)])
         .flatten()
         .chain([limit])
         .filter(|v| v.is_finite())
@@ -556,11 +575,7 @@ fn arms_svg(a: &Analysis, scale: &Scale) -> Result<String, String> {
     };
     let (xticks, decimals) = linear_ticks(xmax, 6.0);
     let names: Vec<String> = a.arms.iter().map(|arm| shorten(&arm.name, 20)).collect();
-    let side = a
-        .arms
-        .first()
-        .map(|arm| side_word(&arm.curve.bound))
-        .unwrap_or("upper");
+    let side = side_word(deciding_side(a));
     let title = format!(
         "Deciding {} bound by arm ({} confidence)",
         side, a.claim.display.confidence
@@ -626,7 +641,7 @@ fn arms_svg(a: &Analysis, scale: &Scale) -> Result<String, String> {
         for (i, arm) in a.arms.iter().enumerate() {
             let y = (k - 1 - i) as f64 + 0.5;
             let mean = arm.mean * f;
-            if let Some(b) = deciding_value(arm).filter(|b| b.is_finite()) {
+            if let Some(b) = deciding_value(a, arm).filter(|b| b.is_finite()) {
                 let b = b * f;
                 chart
                     .draw_series(LineSeries::new(
@@ -697,9 +712,10 @@ mod tests {
         // An arm with no curve points (and the observed point at zero) must not fail or panic.
         let mut a: Analysis =
             serde_json::from_str(include_str!("../../tests/data/sample-results.json")).unwrap();
-        a.arms[0].curve.at_observed_rate.clear();
-        a.arms[0].curve.no_further_events.clear();
-        a.arms[0].curve.observed = [0.0, 0.0];
+        let curve = a.arms[0].curve.as_mut().expect("binary sample has curves");
+        curve.at_observed_rate.clear();
+        curve.no_further_events.clear();
+        curve.observed = [0.0, 0.0];
         let mut b = a.arms[0].clone();
         b.name = "second\u{7}arm".into();
         a.arms.push(b);

@@ -57,8 +57,16 @@ pub(crate) fn render_main(template: &str, a: &Analysis) -> Result<String, Templa
     env.add_template(TEMPLATE_NAME, template).map_err(failure)?;
 
     let several = a.arms.len() > 1;
+    // Curve plots are numbered over the arms that have a curve (binary counts).
+    let mut plotted = 0;
     let arms: Vec<_> = (0..a.arms.len())
-        .map(|i| context! { index => i, number => i + 1, plot => curve_path(i) })
+        .map(|i| {
+            let plot = a.arms[i].curve.as_ref().map(|_| {
+                plotted += 1;
+                curve_path(plotted - 1)
+            });
+            context! { index => i, number => i + 1, plot => plot }
+        })
         .collect();
     let methods: Vec<_> = (0..a.methods.len())
         .map(|i| context! { index => i })

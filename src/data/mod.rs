@@ -1,0 +1,90 @@
+//! Outcome data, whatever their source, as the analysis sees them: one entry per arm with its
+//! counts (binary outcomes) or its rescaled summary and observation stream (bounded outcomes).
+//!
+//! Inline data come from the spec itself ([`inline`]); data files are read by the readers in
+//! this folder. Either way the analysis receives a [`Dataset`] and never touches a file.
+
+use crate::bounds::Summary;
+use crate::spec::{DataSource, Spec};
+
+/// Every arm's data, plus the files they came from.
+#[derive(Debug, Clone, Default)]
+pub struct Dataset {
+    /// One entry per arm, in the order of the spec (or of first appearance in a file).
+    pub arms: Vec<Arm>,
+    /// Data files read, with their digests (empty for inline data).
+    pub inputs: Vec<FileInput>,
+}
+
+/// One arm's data.
+#[derive(Debug, Clone)]
+pub struct Arm {
+    /// The arm's name (`all` for a single unnamed arm).
+    pub name: String,
+    /// Number of trials.
+    pub n: u64,
+    /// What the trials yielded.
+    pub values: Values,
+}
+
+/// What the trials of one arm yielded.
+#[derive(Debug, Clone)]
+pub enum Values {
+    /// Binary outcomes: the number of events among the `n` trials.
+    Counts {
+        /// Trials with the event.
+        events: u64,
+    },
+    /// Bounded outcomes, rescaled to [0, 1] by the declared range.
+    Bounded(BoundedValues),
+}
+
+/// Bounded observations of one arm.
+#[derive(Debug, Clone)]
+pub struct BoundedValues {
+    /// One-pass summary in [0, 1] units.
+    pub summary: Summary,
+    /// The observations in [0, 1] units and trial order, when kept.
+    pub observations: Option<Vec<f64>>,
+    /// Counts of raw values in equal bins over the declared range, when read from a file.
+    pub histogram: Option<Vec<u64>>,
+    /// Sample standard deviation in data units, when the spec gave it instead of raw data.
+    pub stated_sd: Option<f64>,
+}
+
+/// A data file that was read, as recorded in provenance.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub struct FileInput {
+    /// The path as written in the spec (relative to the spec's folder).
+    pub path: String,
+    /// SHA-256 of the file's bytes.
+    pub sha256: String,
+    /// Size in bytes.
+    pub bytes: u64,
+    /// Number of data rows (trials).
+    pub rows: u64,
+}
+
+/// The dataset written inline in the spec; `None` when the spec names a data file.
+pub fn inline(spec: &Spec) -> Option<Dataset> {
+    let arms = match &spec.data.source {
+        DataSource::Counts { trials, events } => vec![Arm {
+            name: "all".to_string(),
+            n: *trials,
+            values: Values::Counts { events: *events },
+        }],
+        DataSource::Arms(arms) => arms
+            .iter()
+            .map(|a| Arm {
+                name: a.name.clone(),
+                n: a.trials,
+                values: Values::Counts { events: a.events },
+            })
+            .collect(),
+        DataSource::File(_) => return None,
+    };
+    Some(Dataset {
+        arms,
+        inputs: Vec::new(),
+    })
+}
