@@ -144,6 +144,47 @@ pub fn civil_from_unix(seconds: i64) -> (i32, u8, u8) {
     (year as i32, month, day)
 }
 
+/// SHA-256 of a spec's acceptance criteria: the `claim` section and the `plan` section
+/// (without `plan.registered`, which records this very digest).
+///
+/// The digest is taken over a fixed JSON form of the parsed values (confidence as written), so
+/// comments, key order and layout of the YAML do not change it, while any change to what is
+/// claimed or planned does.
+pub fn criteria_sha256(spec: &crate::spec::Spec) -> String {
+    let c = &spec.claim;
+    let plan = spec.plan.as_ref().map(|p| {
+        serde_json::json!({
+            "assumed_rate": p.assumed_rate,
+            "assumed_sd": p.assumed_sd,
+            "pass_probability": p.pass_probability,
+            "allowed_events": p.allowed_events,
+        })
+    });
+    let side = match c.side {
+        crate::spec::Side::Upper => "upper",
+        crate::spec::Side::Lower => "lower",
+        crate::spec::Side::TwoSided => "two-sided",
+    };
+    let scope = match c.scope {
+        crate::spec::Scope::Each => "each",
+        crate::spec::Scope::All => "all",
+        crate::spec::Scope::Best => "best",
+    };
+    // serde_json's default map keeps keys sorted, so this text is canonical.
+    let value = serde_json::json!({
+        "format": "surety-criteria/1",
+        "claim": {
+            "quantity": c.quantity,
+            "side": side,
+            "limit": c.limit,
+            "confidence": c.confidence_text,
+            "scope": scope,
+        },
+        "plan": plan,
+    });
+    sha256_hex(value.to_string().as_bytes())
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -4,7 +4,7 @@
 
 use crate::analysis::{self, Context, model::Analysis};
 use crate::error::Error;
-use crate::provenance::{self, sha256_hex};
+use crate::provenance::{self, ReportDate, sha256_hex};
 use crate::report;
 use crate::spec::{self, Location, Spec, SpecError};
 use std::fs;
@@ -32,6 +32,8 @@ pub struct Prepared {
     pub template: Option<String>,
     /// The results.
     pub analysis: Analysis,
+    /// Data files to attach to the report (path as recorded, bytes), per `report.embed_data`.
+    pub embedded: Vec<(String, Vec<u8>)>,
 }
 
 /// The rendered outputs of a study.
@@ -88,14 +90,48 @@ pub fn load_spec(path: &Path) -> Result<(Spec, Vec<u8>), Error> {
     Ok((spec, bytes))
 }
 
+/// How the report date is found.
+#[derive(Debug, Clone)]
+pub enum DateRule {
+    /// From the spec, else SOURCE_DATE_EPOCH, else the clock (a new run).
+    Resolve(Environment),
+    /// The date a recorded result used (a recomputation by `surety verify`).
+    Fixed(ReportDate),
+}
+
 /// Load, validate and analyse the study at `path`.
 pub fn prepare(path: &Path, env: &Environment) -> Result<Prepared, Error> {
     let (spec, spec_bytes) = load_spec(path)?;
+    let spec_name = path
+        .file_name()
+        .map(|n| n.to_string_lossy().to_string())
+        .unwrap_or_else(|| "study.yaml".to_string());
+    let base = path.parent().unwrap_or_else(|| Path::new("")).to_path_buf();
+    analyse_loaded(
+        spec,
+        spec_bytes,
+        path,
+        &spec_name,
+        &base,
+        &DateRule::Resolve(env.clone()),
+    )
+}
+
+/// Analyse a spec already read: `base` is the folder its relative paths (template, data
+/// files) are resolved against.
+pub fn analyse_loaded(
+    spec: Spec,
+    spec_bytes: Vec<u8>,
+    spec_path: &Path,
+    spec_name: &str,
+    base: &Path,
+    date_rule: &DateRule,
+) -> Result<Prepared, Error> {
     let template = match &spec.report.template {
         None => None,
         Some(t) if t == "default" => None,
         Some(t) => {
-            let template_path = path.parent().unwrap_or_else(|| Path::new("")).join(t);
+            let template_path = base.join(t);
             let text = fs::read_to_string(&template_path).map_err(|e| {
                 Error::Spec(spec.error_at(
                     "report.template",
@@ -107,40 +143,84 @@ pub fn prepare(path: &Path, env: &Environment) -> Result<Prepared, Error> {
         }
     };
     let template_text = template.as_deref().unwrap_or(report::default_template());
-    let date = provenance::resolve_date(
-        spec.study.date.as_ref().map(|d| (d.year, d.month, d.day)),
-        env.source_date_epoch.as_deref(),
-        env.now_unix_seconds,
-    )?;
-    let spec_name = path
-        .file_name()
-        .map(|n| n.to_string_lossy().to_string())
-        .unwrap_or_else(|| "study.yaml".to_string());
+    let date = match date_rule {
+        DateRule::Resolve(env) => provenance::resolve_date(
+            spec.study.date.as_ref().map(|d| (d.year, d.month, d.day)),
+            env.source_date_epoch.as_deref(),
+            env.now_unix_seconds,
+        )?,
+        DateRule::Fixed(date) => *date,
+    };
     let ctx = Context {
         date,
-        spec_name,
+        spec_name: spec_name.to_string(),
         spec_sha256: sha256_hex(&spec_bytes),
         template_sha256: report::template_sha256(template_text),
         fonts_sha256: report::fonts_sha256(),
     };
-    let data = match crate::data::inline(&spec) {
-        Some(d) => d,
-        None => {
-            return Err(Error::Spec(spec.error_at(
-                "data.file",
-                "reading trials from a data file is not supported yet",
-                None,
-            )));
-        }
-    };
+    let data = load_data(&spec, base)?;
     let analysis = analysis::analyse(&spec, &data, &ctx)?;
+    let embedded = embedded_data(&spec, base, &data)?;
     Ok(Prepared {
         spec,
         spec_bytes,
-        spec_path: path.to_path_buf(),
+        spec_path: spec_path.to_path_buf(),
         template,
         analysis,
+        embedded,
     })
+}
+
+/// Data files at most this large in all are embedded under `embed_data: auto`.
+pub const EMBED_AUTO_LIMIT: u64 = 4 * 1024 * 1024;
+
+/// The data files to attach to the report. Their bytes are read again and checked against the
+/// digest taken while analysing, so the attachment is exactly the data the numbers came from.
+fn embedded_data(
+    spec: &Spec,
+    base: &Path,
+    data: &crate::data::Dataset,
+) -> Result<Vec<(String, Vec<u8>)>, Error> {
+    let total: u64 = data.inputs.iter().map(|f| f.bytes).sum();
+    let wanted = match spec.report.embed_data {
+        spec::EmbedData::Always => true,
+        spec::EmbedData::Never => false,
+        spec::EmbedData::Auto => total <= EMBED_AUTO_LIMIT,
+    };
+    if !wanted {
+        return Ok(Vec::new());
+    }
+    let mut out = Vec::new();
+    for f in &data.inputs {
+        let path = base.join(&f.path);
+        let bytes = fs::read(&path).map_err(|source| Error::Read {
+            path: path.display().to_string(),
+            source,
+        })?;
+        if sha256_hex(&bytes) != f.sha256 {
+            return Err(Error::Usage(format!(
+                "{} changed while it was being analysed; run again",
+                path.display()
+            )));
+        }
+        out.push((f.path.clone(), bytes));
+    }
+    Ok(out)
+}
+
+/// The study's data: inline in the spec, or read from the file it names (relative to `base`).
+fn load_data(spec: &Spec, base: &Path) -> Result<crate::data::Dataset, Error> {
+    match crate::data::inline(spec) {
+        Some(d) => Ok(d),
+        None => {
+            let _ = base;
+            Err(Error::Spec(spec.error_at(
+                "data.file",
+                "reading trials from a data file is not supported yet",
+                None,
+            )))
+        }
+    }
 }
 
 /// Render results.json and the PDF report, in memory.
@@ -153,6 +233,33 @@ pub fn render(prepared: &mut Prepared) -> Result<Artifacts, Error> {
         spec_name: &spec_name,
         spec_bytes: &prepared.spec_bytes,
         template: prepared.template.as_deref(),
+        data_files: &prepared.embedded,
     })?;
     Ok(Artifacts { results_json, pdf })
+}
+
+/// A study's plan and the digest of its acceptance criteria.
+#[derive(Debug, Clone)]
+pub struct Planned {
+    /// The validated spec.
+    pub spec: Spec,
+    /// The plan.
+    pub plan: crate::plan::PlanResults,
+    /// SHA-256 of the claim and plan sections, to be kept as `plan.registered`.
+    pub criteria_sha256: String,
+}
+
+/// Load a spec and plan its study; data already collected (inline or in its file) feed the
+/// trials still needed.
+pub fn plan(path: &Path) -> Result<Planned, Error> {
+    let (spec, _) = load_spec(path)?;
+    let base = path.parent().unwrap_or_else(|| Path::new("")).to_path_buf();
+    let data = load_data(&spec, &base)?;
+    let plan = crate::plan::from_spec::plan(&spec, Some(&data))?;
+    let criteria_sha256 = provenance::criteria_sha256(&spec);
+    Ok(Planned {
+        spec,
+        plan,
+        criteria_sha256,
+    })
 }

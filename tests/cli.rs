@@ -306,7 +306,23 @@ fn methods_json_lists_the_catalogue() {
         .iter()
         .map(|m| m["id"].as_str().unwrap())
         .collect();
-    assert_eq!(ids, ["exact", "chernoff-kl", "hoeffding"]);
+    // The catalogue order of src/bounds/mod.rs: binary-count methods first.
+    assert_eq!(
+        ids,
+        [
+            "exact",
+            "chernoff-kl",
+            "hoeffding",
+            "bernstein-empirical",
+            "bernstein-unexpected",
+            "split-kl",
+            "betting"
+        ]
+    );
+    assert_eq!(
+        v["methods"][6]["needs"],
+        "every value in trial order (a data file)"
+    );
 }
 
 #[test]
@@ -351,4 +367,136 @@ fn the_readme_spec_example_is_valid() {
     std::fs::write(&spec, &readme[start..end]).unwrap();
     let o = run(&["check", spec.to_str().unwrap()]);
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+}
+
+const PLANNED: &str = "surety: 1
+study: {id: PLAN-7, title: Seal leak rate, date: 2026-11-30}
+claim: {quantity: leak rate, side: upper, limit: 0.01, confidence: 0.95}
+outcome: {type: binary, event: leak}
+data: {trials: 473, events: 1}
+plan:
+  assumed_rate: 0.002
+  pass_probability: 0.9
+REGISTERED";
+
+fn criteria_item(dir: &Path) -> serde_json::Value {
+    let r = results(dir);
+    r["checklist"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|c| c["id"] == "criteria-registered")
+        .cloned()
+        .expect("the checklist always has the registration item")
+}
+
+// The registration contract of the plan section: `surety plan` prints the digest, `surety run`
+// recomputes it, marks it checked when it matches and flags a changed claim on stderr.
+#[test]
+fn registered_criteria_are_rechecked_by_run() {
+    let dir = tempfile::tempdir().unwrap();
+    let spec = dir.path().join("study.yaml");
+    std::fs::write(&spec, PLANNED.replace("REGISTERED", "")).unwrap();
+    let out = dir.path().join("out");
+    let o = run(&[
+        "run",
+        spec.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert!(o.status.success());
+    let item = criteria_item(&out);
+    assert_eq!(item["status"], "open");
+    assert!(
+        item["evidence"]
+            .as_str()
+            .unwrap()
+            .starts_with("criteria not registered before testing")
+    );
+
+    let o = run(&["plan", spec.to_str().unwrap()]);
+    assert!(o.status.success());
+    let text = String::from_utf8_lossy(&o.stdout).into_owned();
+    let line = text
+        .lines()
+        .find(|l| l.trim_start().starts_with("registered: "))
+        .expect("plan prints the registration line");
+    let digest = line.trim().trim_start_matches("registered: ").to_string();
+    assert_eq!(digest.len(), 64);
+    let registered = PLANNED.replace("REGISTERED", &format!("  registered: {digest}\n"));
+    std::fs::write(&spec, &registered).unwrap();
+    let o = run(&[
+        "run",
+        spec.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert!(o.status.success());
+    assert_eq!(criteria_item(&out)["status"], "checked");
+    assert!(!String::from_utf8_lossy(&o.stderr).contains("warning"));
+
+    // Moving the limit after registration is flagged in the results and on stderr.
+    std::fs::write(&spec, registered.replace("limit: 0.01", "limit: 0.015")).unwrap();
+    let o = run(&[
+        "run",
+        spec.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert!(o.status.success());
+    assert_eq!(criteria_item(&out)["status"], "open");
+    assert!(
+        String::from_utf8_lossy(&o.stderr).contains("warning: the claim or plan changed"),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    // Layout and comments do not change the digest.
+    std::fs::write(
+        &spec,
+        registered.replace("plan:\n", "# criteria fixed on 2026-11-01\nplan:\n"),
+    )
+    .unwrap();
+    let o = run(&[
+        "run",
+        spec.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+    ]);
+    assert!(o.status.success());
+    assert_eq!(criteria_item(&out)["status"], "checked");
+}
+
+// 95 % / 99 % with c = 0 needs 299 trials (success-run rule, common practice); the plan's
+// other rows come from tests/reference/plan_values.json via the plan module's own tests.
+#[test]
+fn plan_prints_the_demonstration_table_and_json() {
+    let dir = tempfile::tempdir().unwrap();
+    let spec = dir.path().join("study.yaml");
+    std::fs::write(&spec, PLANNED.replace("REGISTERED", "")).unwrap();
+    let o = run(&["plan", spec.to_str().unwrap(), "--json"]);
+    assert!(o.status.success());
+    let p: serde_json::Value = serde_json::from_slice(&o.stdout).expect("one JSON document");
+    assert_eq!(p["format"], "surety-plan/1");
+    assert_eq!(p["demonstration"][0]["allowed_events"], 0);
+    assert_eq!(p["demonstration"][0]["trials"], 299);
+    // 473 trials with one event: the exact bound at 95 % is just below 1 % (plan row c = 1).
+    assert_eq!(p["demonstration"][1]["trials"], 473);
+    assert!(p["still_needed"].is_object());
+}
+
+#[test]
+fn a_plan_that_cannot_reach_its_target_says_why() {
+    let dir = tempfile::tempdir().unwrap();
+    let spec = dir.path().join("study.yaml");
+    std::fs::write(
+        &spec,
+        PLANNED
+            .replace("REGISTERED", "")
+            .replace("assumed_rate: 0.002", "assumed_rate: 0.01"),
+    )
+    .unwrap();
+    let o = run(&["plan", spec.to_str().unwrap()]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let text = String::from_utf8_lossy(&o.stdout);
+    assert!(text.contains("no sample size reaches the target"), "{text}");
 }

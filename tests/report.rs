@@ -11,11 +11,23 @@ use surety::analysis::model::Analysis;
 use surety::report::{ReportError, ReportInputs, Stage, default_template, render_pdf};
 
 const SAMPLE: &str = include_str!("data/sample-results.json");
+/// A bounded outcome (values in [0, 2.5] m); hand-made, its numbers are placeholders.
+const BOUNDED: &str = include_str!("data/bounded-sample-results.json");
 const SPEC: &[u8] =
     b"surety: 1\nstudy:\n  id: VER-0117\n  title: Gripper drop rate, firmware 4.2\n";
 
 fn sample() -> Analysis {
     serde_json::from_str(SAMPLE).expect("sample results deserialize into the model")
+}
+
+fn bounded() -> Analysis {
+    serde_json::from_str(BOUNDED).expect("bounded sample deserializes into the model")
+}
+
+/// `s` with its whitespace collapsed the way [`text_of`] collapses the PDF's (display strings
+/// join a number and its unit with a no-break space).
+fn norm(s: &str) -> String {
+    s.split_whitespace().collect::<Vec<_>>().join(" ")
 }
 
 fn render(a: &Analysis, template: Option<&str>) -> Result<Vec<u8>, ReportError> {
@@ -26,6 +38,7 @@ fn render(a: &Analysis, template: Option<&str>) -> Result<Vec<u8>, ReportError> 
         spec_name: "study.yaml",
         spec_bytes: SPEC,
         template,
+        data_files: &[],
     })
 }
 
@@ -106,6 +119,10 @@ fn sample_renders_to_a_plausible_report() {
         "Attention before sign-off",
         "sha256sum",
         "surety run",
+        // The curve plot and, since the sample has compare methods, the method comparison.
+        "Upper 95 % confidence bound against number of trials",
+        "Upper bound by method (95 % confidence)",
+        "Exact binomial (primary)",
     ] {
         assert!(text.contains(needle), "report text lacks {needle:?}");
     }
@@ -129,6 +146,7 @@ fn pdf_is_pdfa3b_and_carries_spec_and_results() {
         spec_name: "specs/study.yaml",
         spec_bytes: SPEC,
         template: None,
+        data_files: &[],
     })
     .expect("renders");
     let raw = String::from_utf8_lossy(&pdf);
@@ -325,6 +343,7 @@ fn mismatched_results_are_refused() {
         spec_name: "study.yaml",
         spec_bytes: SPEC,
         template: None,
+        data_files: &[],
     })
     .expect_err("arm counts differ");
     assert!(matches!(err, ReportError::Results(_)), "{err:?}");
@@ -400,4 +419,190 @@ fn optional_parts_render() {
     // Nothing open: no open-assumption notice, but the warning is flagged on page one.
     assert!(!text.contains("assumption is open"));
     assert!(text.contains("Attention before sign-off"));
+}
+
+#[test]
+fn bounded_sample_renders_in_data_units() {
+    let a = bounded();
+    let pdf = render(&a, None).expect("bounded sample renders");
+    keep("bounded.pdf", &pdf);
+    let n = pages(&info_of(&pdf, "bounded"));
+    // Six methods in the appendix and three signature blocks: more pages than the binary sample.
+    assert!((4..=9).contains(&n), "expected 4 to 9 pages, got {n}");
+    let text = text_of(&pdf, "bounded");
+    let arm = &a.arms[0];
+    let values = arm.values.as_ref().expect("sample has a value summary");
+    // Expected values: the display strings of tests/data/bounded-sample-results.json.
+    for needle in [
+        arm.display.n.as_str(),                    // 198,164 trials
+        arm.display.mean.as_str(),                 // 0.2812 m
+        values.display.sd.as_str(),                // 0.1203 m
+        values.display.min.as_deref().unwrap(),    // 0.001200 m
+        values.display.max.as_deref().unwrap(),    // 1.402 m
+        a.claim.display.limit.as_str(),            // 0.35 m
+        "[0, 2.5] m",                              // outcome.range and outcome.unit
+        "approach-errors.csv (198,164 data rows)", // provenance.inputs[0]
+        "Betting (Waudby-Smith–Ramdas)",           // methods[0].name
+        "Observed mean",
+        "SD",
+        "Upper bound by method (95 % confidence)", // comparison chart title
+        "Betting (primary)",
+        "axis does not start at 0",
+        "Observed values across the declared range", // histogram title
+        "values in 40 bins",
+    ] {
+        assert!(text.contains(&norm(needle)), "report text lacks {needle:?}");
+    }
+    assert!(
+        text.contains(&norm(&format!("observed mean {}", arm.display.mean))),
+        "histogram legend names the mean"
+    );
+    // Every bound is printed in the table; each deciding (upper) bound also beside its bar in
+    // the comparison chart, so at least twice.
+    for b in std::iter::once(&arm.primary).chain(&arm.compare) {
+        for s in [&b.display.upper, &b.display.lower].into_iter().flatten() {
+            assert!(text.contains(&norm(s)), "bound {s} not printed");
+        }
+        let upper = norm(b.display.upper.as_deref().unwrap());
+        let times = text.matches(&format!("{upper} ")).count();
+        assert!(times >= 2, "{upper} printed {times} times");
+    }
+    // Nothing of the binary layout leaks in: no events, no curve.
+    for absent in ["Events (", "no further events", "against number of trials"] {
+        assert!(!text.contains(absent), "bounded report shows {absent:?}");
+    }
+}
+
+#[test]
+fn several_bounded_arms_and_omitted_methods_render() {
+    let mut a = bounded();
+    let base = a.arms[0].clone();
+    a.arms = ["dock-a", "dock-b", "dock-c"]
+        .iter()
+        .map(|name| {
+            let mut arm = base.clone();
+            arm.name = (*name).into();
+            arm
+        })
+        .collect();
+    // The third arm was read as summary statistics only: no minimum, maximum or histogram.
+    if let Some(v) = a.arms[2].values.as_mut() {
+        v.min = None;
+        v.max = None;
+        v.histogram = None;
+        v.display.min = None;
+        v.display.max = None;
+    }
+    a.adjustments.arms = 3;
+    a.omitted_methods = vec![surety::analysis::model::OmittedMethod {
+        method: "split-kl".into(),
+        reason: "needs raw data: the values one by one, not their summary".into(),
+    }];
+    let pdf = render(&a, None).expect("three bounded arms render");
+    keep("bounded-arms.pdf", &pdf);
+    let text = text_of(&pdf, "bounded-arms");
+    for needle in [
+        "Deciding upper bound by arm",
+        "observed mean",
+        "mean (m)",
+        "Upper bound by method (95 % confidence)",
+        "Arm dock-a",
+        "Arm dock-c",
+        "Compare methods not computed.",
+        "Split-kl split-kl — needs raw data: the values one by one, not their summary",
+        "Vertical scales differ between arms",
+    ] {
+        assert!(text.contains(needle), "report text lacks {needle:?}");
+    }
+    // Two histograms (dock-a, dock-b); dock-c has none.
+    assert_eq!(
+        text.matches("observed values across the declared range.")
+            .count(),
+        2
+    );
+    let n = pages(&info_of(&pdf, "bounded-arms"));
+    assert!((4..=9).contains(&n), "three arms on {n} pages");
+}
+
+#[test]
+fn terminal_summary_shows_bounded_arms_in_units() {
+    let a = bounded();
+    let text = surety::report::summary::summary(&a);
+    // Display strings of tests/data/bounded-sample-results.json: mean 0.2812 m, sd 0.1203 m.
+    assert!(norm(&text).contains("0.2812 ± 0.1203 m"), "{text}");
+    assert!(text.contains("mean ± sd"), "{text}");
+    assert!(
+        text.contains("values in the declared range [0, 2.5] m"),
+        "{text}"
+    );
+    assert!(!text.contains("events"), "no event column: {text}");
+    // Five compare methods would make one very wide table: they get a table of their own,
+    // and no line but the statement is wider than 110 characters (our layout rule).
+    assert!(
+        text.contains("upper bounds of the compare methods"),
+        "{text}"
+    );
+    assert!(
+        text.lines()
+            .filter(|l| !l.contains(&a.statement))
+            .all(|l| l.chars().count() <= 110),
+        "{text}"
+    );
+    for b in std::iter::once(&a.arms[0].primary).chain(&a.arms[0].compare) {
+        assert!(text.contains(b.display.upper.as_deref().unwrap()), "{text}");
+    }
+    // Binary summaries keep their event counts (sample-results.json: 12 events).
+    let binary = surety::report::summary::summary(&sample());
+    assert!(
+        binary.contains("events") && binary.contains(" 12 "),
+        "{binary}"
+    );
+}
+
+#[test]
+fn lower_and_two_sided_bounded_claims_render() {
+    // Layout check only: the compare methods' lower bounds are placeholders mirrored from
+    // their upper bounds about the mean (the sample carries none), with matching display text.
+    let mut a = bounded();
+    let mean = a.arms[0].mean;
+    for b in a.arms[0].compare.iter_mut() {
+        let up = b.upper.expect("sample has upper bounds");
+        b.lower = Some(2.0 * mean - up);
+        b.display.lower = Some(format!("{:.4} m", 2.0 * mean - up));
+    }
+    let expected: Vec<String> = std::iter::once(&a.arms[0].primary)
+        .chain(&a.arms[0].compare)
+        .map(|b| norm(b.display.lower.as_deref().unwrap()))
+        .collect();
+
+    let mut lower = a.clone();
+    lower.claim.side = "lower".into();
+    lower.claim.limit = 0.2;
+    let pdf = render(&lower, None).expect("lower-side claim renders");
+    keep("bounded-lower.pdf", &pdf);
+    let text = text_of(&pdf, "bounded-lower");
+    assert!(
+        text.contains("Lower bound by method (95 % confidence)"),
+        "chart title"
+    );
+    for s in &expected {
+        assert!(
+            text.matches(&format!("{s} ")).count() >= 2,
+            "{s} in table and chart"
+        );
+    }
+
+    let mut both = a;
+    both.claim.side = "two-sided".into();
+    let pdf = render(&both, None).expect("two-sided claim renders");
+    keep("bounded-two-sided.pdf", &pdf);
+    let text = text_of(&pdf, "bounded-two-sided");
+    assert!(
+        text.contains("Bounds by method (95 % confidence)"),
+        "chart title"
+    );
+    assert!(
+        text.contains("Each segment spans the two bounds"),
+        "caption"
+    );
 }

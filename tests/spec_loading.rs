@@ -2,8 +2,8 @@
 //! expected; every expected location below is computed from the test's own YAML text.
 
 use surety::spec::{
-    DataSource, Date, DependenceModel, EmbedData, LookMode, OutcomeKind, Scope, Side, Spec,
-    SpecError, Spending, load, parse, parse_bytes,
+    ArmSummary, DataSource, Date, DependenceModel, EmbedData, LookMode, OutcomeKind, Scope, Side,
+    Spec, SpecError, Spending, SummaryStats, load, parse, parse_bytes,
 };
 
 // Source of the rules and expected values: DESIGN.md §5 (spec format 1 and its example), and the
@@ -13,7 +13,7 @@ use surety::spec::{
 
 /// The DESIGN.md §5 example, restricted to the keys of a binary outcome (no `range`, `unit`,
 /// `assumed_sd`; no `m` under an independent model), comments kept.
-const BASE: &str = r#"surety: 1
+pub(crate) const BASE: &str = r#"surety: 1
 study:
   id: VER-0117                  # document id, printed on every page
   title: Gripper drop rate, firmware 4.2
@@ -59,7 +59,7 @@ report:
 
 /// `text` with `old` replaced by `new`; `old` must occur exactly once, so a test cannot pass
 /// because its edit silently did nothing.
-fn edit(text: &str, old: &str, new: &str) -> String {
+pub(crate) fn edit(text: &str, old: &str, new: &str) -> String {
     assert_eq!(
         text.matches(old).count(),
         1,
@@ -1533,4 +1533,401 @@ fn display_is_one_rendering() {
         )
     );
     let _: &dyn std::error::Error = &e;
+}
+
+// ---------------------------------------------------------------- summaries of bounded values
+
+// Source of the rules: the summary form of `data` (n, mean and sample sd with n − 1, in data
+// units, for bounded outcomes). Largest possible sd: the derivation beside `max_sample_sd` in
+// src/spec/validate.rs; each value below is also worked by hand in its comment.
+
+/// BASE turned into a bounded outcome on [0, 2.5] whose data are `data` (the lines under
+/// `data:`).
+pub(crate) fn bounded_with(data: &str) -> String {
+    let text = edit(
+        BASE,
+        "  type: binary                  # binary | bounded\n  event: dropped load           # binary: what a 1 means\n",
+        "  type: bounded\n  range: [0, 2.5]\n  unit: m\n",
+    );
+    let text = edit(&text, "  allowed_events: [0, 1, 2, 3]\n", "");
+    let text = edit(&text, "  assumed_rate: 0.003", "  assumed_rate: 1.1");
+    edit(&text, "  trials: 4600\n  events: 12\n", data)
+}
+
+pub(crate) const SUMMARY: &str = "  n: 400\n  mean: 1.12\n  sd: 0.21\n";
+
+#[test]
+fn summary_form_loads() {
+    let text = bounded_with(SUMMARY);
+    let spec = ok(&text);
+    assert_eq!(
+        spec.data.source,
+        DataSource::Summary(SummaryStats {
+            n: 400,
+            mean: 1.12,
+            sd: 0.21
+        })
+    );
+    let loc = spec.locate("data.sd").expect("recorded");
+    assert_eq!((loc.line, loc.column), pos(&text, "  sd: 0.21", "0.21"));
+    // The flow form of the same summary.
+    let flow = edit(
+        &text,
+        "data:                           # exactly one of: trials/events, arms, file\n  n: 400\n  mean: 1.12\n  sd: 0.21\n",
+        "data: {n: 400, mean: 1.12, sd: 0.21}\n",
+    );
+    assert_eq!(ok(&flow).data.source, spec.data.source);
+    // A mean at an end of the range with no spread; a whole-number mean is taken as exact.
+    let spec = ok(&bounded_with("  n: 2\n  mean: 0\n  sd: 0\n"));
+    assert_eq!(
+        spec.data.source,
+        DataSource::Summary(SummaryStats {
+            n: 2,
+            mean: 0.0,
+            sd: 0.0
+        })
+    );
+}
+
+#[test]
+fn arm_summaries_load() {
+    let text = bounded_with(
+        "  arms:\n    - {name: line-1, n: 120, mean: 0.84, sd: 0.30}\n    - name: line-2\n      n: 95\n      mean: 0.91\n      sd: 0.27\n",
+    );
+    let spec = ok(&text);
+    let DataSource::ArmSummaries(arms) = &spec.data.source else {
+        panic!("arm summaries expected, got {:?}", spec.data.source)
+    };
+    assert_eq!(
+        arms,
+        &[
+            ArmSummary {
+                name: "line-1".into(),
+                summary: SummaryStats {
+                    n: 120,
+                    mean: 0.84,
+                    sd: 0.30
+                }
+            },
+            ArmSummary {
+                name: "line-2".into(),
+                summary: SummaryStats {
+                    n: 95,
+                    mean: 0.91,
+                    sd: 0.27
+                }
+            },
+        ]
+    );
+    let loc = spec.locate("data.arms[1].sd").expect("recorded");
+    assert_eq!((loc.line, loc.column), pos(&text, "      sd: 0.27", "0.27"));
+}
+
+#[test]
+fn summary_values_are_checked() {
+    for (old, new, token, key, fragment) in [
+        ("  n: 400", "  n: 1", "1", "data.n", "n of at least 2"),
+        ("  n: 400", "  n: 0", "0", "data.n", "n of at least 2"),
+        ("  n: 400", "  n: 400.5", "400.5", "data.n", "fractional"),
+        ("  n: 400", "  n: -3", "-3", "data.n", "not negative"),
+        (
+            "  mean: 1.12",
+            "  mean: 2.6",
+            "2.6",
+            "data.mean",
+            "inside the outcome range [0, 2.5]",
+        ),
+        (
+            "  mean: 1.12",
+            "  mean: -0.1",
+            "-0.1",
+            "data.mean",
+            "inside the outcome range",
+        ),
+        (
+            "  mean: 1.12",
+            "  mean: \"1.12\"",
+            "\"1.12\"",
+            "data.mean",
+            "remove the quotes",
+        ),
+        (
+            "  sd: 0.21",
+            "  sd: -0.21",
+            "-0.21",
+            "data.sd",
+            "cannot be negative",
+        ),
+        ("  sd: 0.21", "  sd: .inf", ".inf", "data.sd", "finite"),
+        (
+            "  sd: 0.21",
+            "  sd:",
+            ":",
+            "data.sd",
+            "expected a number, found nothing",
+        ),
+    ] {
+        let text = edit(&bounded_with(SUMMARY), old, new);
+        let line = new.trim().split(':').next().unwrap_or_default().to_owned() + ":";
+        check(
+            &err(&text),
+            pos(&text, &format!("  {line}"), token),
+            Some(key),
+            fragment,
+        );
+    }
+    // A key left out is reported at the mapping that should hold it.
+    let text = bounded_with("  n: 400\n  mean: 1.12\n");
+    let e = err(&text);
+    check(
+        &e,
+        pos(&text, "  n: 400", "n"),
+        Some("data.sd"),
+        "missing key `sd`",
+    );
+    assert!(e.hint.as_deref().unwrap_or("").contains("n − 1"), "{e}");
+    let text = bounded_with("  mean: 1.12\n  sd: 0.21\n");
+    check(
+        &err(&text),
+        pos(&text, "  mean: 1.12", "mean"),
+        Some("data.n"),
+        "missing key `n`",
+    );
+    // An unknown key lists the summary keys among those allowed.
+    let text = bounded_with("  n: 400\n  mean: 1.12\n  stdev: 0.21\n");
+    let e = err(&text);
+    check(
+        &e,
+        pos(&text, "stdev", "stdev"),
+        Some("data.stdev"),
+        "unknown key `stdev`",
+    );
+    assert!(e.message.contains("`sd`"), "{e}");
+}
+
+#[test]
+fn summary_sd_cannot_exceed_what_the_range_allows() {
+    // n = 2 in [0, 2.5] with mean 1.25: the two values are 0 and 2.5, s = 2.5/√2 = 1.7677670
+    // (arithmetic). Rounded to the digits written, 1.76777 and 1.77 are possible; 1.78 is not.
+    for sd in ["1.76777", "1.77", "1.7677670"] {
+        ok(&bounded_with(&format!(
+            "  n: 2\n  mean: 1.25\n  sd: {sd}\n"
+        )));
+    }
+    let text = bounded_with("  n: 2\n  mean: 1.25\n  sd: 1.78\n");
+    let e = err(&text);
+    check(
+        &e,
+        pos(&text, "  sd:", "1.78"),
+        Some("data.sd"),
+        "the largest possible is 1.76777",
+    );
+    assert!(
+        !e.hint.as_deref().unwrap_or("").contains("variance"),
+        "just above the bound: {e}"
+    );
+    // n = 3 in [0, 2.5] with mean 1.25: the extreme set is {0, 1.25, 2.5}, s = 1.25 (hand
+    // arithmetic: (1.5625 + 0 + 1.5625)/2 = 1.5625). The bound without the middle value,
+    // 2.5·√(3·¼/2) = 1.5309, would let 1.4 through.
+    ok(&bounded_with("  n: 3\n  mean: 1.25\n  sd: 1.25\n"));
+    let text = bounded_with("  n: 3\n  mean: 1.25\n  sd: 1.4\n");
+    check(
+        &err(&text),
+        pos(&text, "  sd:", "1.4"),
+        Some("data.sd"),
+        "largest possible is 1.25",
+    );
+    // A mean written at the end of the range to three decimals leaves room for about 0.01 of
+    // spread among 400 values (0.02 % of them just below 2.5); 0.1 is impossible.
+    let text = bounded_with("  n: 400\n  mean: 2.500\n  sd: 0.1\n");
+    check(
+        &err(&text),
+        pos(&text, "  sd:", "0.1"),
+        Some("data.sd"),
+        "the largest possible is 0",
+    );
+    let text = bounded_with("  n: 400\n  mean: 0\n  sd: 0.01\n");
+    check(
+        &err(&text),
+        pos(&text, "  sd:", "0.01"),
+        Some("data.sd"),
+        "largest possible is 0",
+    );
+    // A variance given as the sd: its square root is offered.
+    let wide = edit(
+        &bounded_with("  n: 50\n  mean: 50\n  sd: 900\n"),
+        "  range: [0, 2.5]",
+        "  range: [0, 100]",
+    );
+    let wide = edit(&wide, "  limit: 0.01", "  limit: 60");
+    let wide = edit(&wide, "  assumed_rate: 1.1", "  assumed_rate: 55");
+    let e = err(&wide);
+    check(
+        &e,
+        pos(&wide, "  sd:", "900"),
+        Some("data.sd"),
+        "may be the variance",
+    );
+    assert!(
+        e.hint.as_deref().unwrap_or("").ends_with("square root, 30"),
+        "{e}"
+    );
+    // An exponent does not buy unlimited imprecision.
+    let text = bounded_with("  n: 400\n  mean: 1.12\n  sd: 1e300\n");
+    check(
+        &err(&text),
+        pos(&text, "  sd:", "1e300"),
+        Some("data.sd"),
+        "largest possible",
+    );
+}
+
+#[test]
+fn summaries_need_a_bounded_outcome_and_one_form() {
+    // Binary outcome with a summary.
+    let text = edit(BASE, "  trials: 4600\n  events: 12\n", SUMMARY);
+    let e = err(&text);
+    check(
+        &e,
+        pos(&text, "  n: 400", "n"),
+        Some("data.n"),
+        "this outcome is binary",
+    );
+    assert!(
+        e.hint
+            .as_deref()
+            .unwrap_or("")
+            .contains("outcome.type: bounded"),
+        "{e}"
+    );
+    // Counts and a summary together.
+    let text = bounded_with("  trials: 400\n  events: 3\n  mean: 1.12\n");
+    let e = err(&text);
+    check(
+        &e,
+        pos(&text, "  mean:", "mean"),
+        Some("data.mean"),
+        "gives both inline counts (`trials` and `events`) and a summary (`n`, `mean` and `sd`)",
+    );
+    assert!(
+        e.hint
+            .as_deref()
+            .unwrap_or("")
+            .contains("matches outcome.type"),
+        "{e}"
+    );
+    // A summary and a file.
+    let text = bounded_with("  file: values.csv\n  n: 400\n");
+    check(
+        &err(&text),
+        pos(&text, "  n: 400", "n"),
+        Some("data.n"),
+        "gives both `file` and a summary",
+    );
+    // Columns belong to files.
+    let text = bounded_with("  n: 400\n  mean: 1.12\n  sd: 0.21\n  column: gap\n");
+    check(
+        &err(&text),
+        pos(&text, "column:", "column"),
+        Some("data.column"),
+        "only to data read from a `file`",
+    );
+    // No form at all: the hint of a bounded outcome shows the summary.
+    let text = bounded_with("  column: gap\n");
+    let e = err(&text);
+    check(
+        &e,
+        pos(&text, "  column: gap", "column"),
+        Some("data"),
+        "exactly one of",
+    );
+    assert!(
+        e.hint.as_deref().unwrap_or("").contains("`sd: 0.21`"),
+        "{e}"
+    );
+}
+
+#[test]
+fn arm_summary_mistakes() {
+    // One arm with both forms.
+    let text = bounded_with("  arms:\n    - {name: a, n: 40, mean: 1.2, sd: 0.3, events: 2}\n");
+    check(
+        &err(&text),
+        pos(&text, "name: a", "events"),
+        Some("data.arms[0].events"),
+        "both counts",
+    );
+    // Arms written in different forms.
+    let text = bounded_with(
+        "  arms:\n    - {name: a, n: 40, mean: 1.2, sd: 0.3}\n    - {name: b, trials: 40, events: 2}\n",
+    );
+    check(
+        &err(&text),
+        pos(&text, "name: b", "trials"),
+        Some("data.arms[1].trials"),
+        "all arms are given the same way",
+    );
+    // A summary arm for a binary outcome.
+    let text = edit(
+        BASE,
+        "  trials: 4600\n  events: 12\n",
+        "  arms:\n    - {name: a, n: 40, mean: 0.2, sd: 0.3}\n",
+    );
+    check(
+        &err(&text),
+        pos(&text, "name: a", "n:"),
+        Some("data.arms[0].n"),
+        "this outcome is binary",
+    );
+    // Values are checked per arm.
+    let text = bounded_with(
+        "  arms:\n    - {name: a, n: 40, mean: 1.2, sd: 0.3}\n    - {name: b, n: 1, mean: 1.2, sd: 0.3}\n",
+    );
+    check(
+        &err(&text),
+        pos(&text, "name: b", "1,"),
+        Some("data.arms[1].n"),
+        "at least 2",
+    );
+    let text = bounded_with("  arms:\n    - {name: a, n: 40, mean: 1.2}\n");
+    check(
+        &err(&text),
+        pos(&text, "name: a", "{"),
+        Some("data.arms[0].sd"),
+        "missing key `sd`",
+    );
+    let text = bounded_with("  arms:\n    - {name: a}\n");
+    let e = err(&text);
+    check(
+        &e,
+        pos(&text, "name: a", "{"),
+        Some("data.arms[0].n"),
+        "missing key `n`",
+    );
+    assert!(e.hint.as_deref().unwrap_or("").contains("sd: 0.3"), "{e}");
+    let text = edit(
+        BASE,
+        "  trials: 4600\n  events: 12\n",
+        "  arms:\n    - {name: a}\n",
+    );
+    let e = err(&text);
+    check(
+        &e,
+        pos(&text, "name: a", "{"),
+        Some("data.arms[0].trials"),
+        "missing key `trials`",
+    );
+    assert_eq!(
+        e.hint.as_deref(),
+        Some("each arm is written {name: A, trials: 100, events: 1}")
+    );
+    let text = bounded_with(
+        "  arms:\n    - {name: a, n: 40, mean: 1.2, sd: 0.3}\n    - {name: a, n: 41, mean: 1.2, sd: 0.3}\n",
+    );
+    check(
+        &err(&text),
+        pos(&text, "n: 41", "a,"),
+        Some("data.arms[1].name"),
+        "already used",
+    );
 }

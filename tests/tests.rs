@@ -3,9 +3,17 @@
 #![allow(clippy::excessive_precision)]
 
 mod accuracy;
+mod bounded_accuracy;
+mod bounded_coverage;
+mod bounded_properties;
 mod cli;
 mod coverage;
+mod extract;
+mod plan;
 mod properties;
+mod python;
 mod report;
 mod robustness;
+mod schema;
 mod spec_loading;
+mod verify;

@@ -75,14 +75,6 @@ fn require_supported(spec: &Spec) -> Result<(), SpecError> {
             None,
         ));
     }
-    if spec.plan.is_some() {
-        return Err(spec.error_at(
-            "plan",
-            "the `plan` section is used for sample-size planning, which this version of surety \
-             does not provide",
-            Some("remove the section; it does not change the analysis".into()),
-        ));
-    }
     for id in spec.attestations.keys() {
         if bounds::assumption(id).is_none() {
             let known: Vec<&str> = bounds::ASSUMPTIONS.iter().map(|a| a.id).collect();
@@ -284,11 +276,17 @@ fn outcome_kind(spec: &Spec) -> bounds::OutcomeKind {
     }
 }
 
-/// The `auto` primary method (DESIGN.md §5), decided from the spec alone.
+/// The `auto` primary method (DESIGN.md §5), decided from the spec alone: for bounded values
+/// given only as n, mean and sd — visible in the spec — betting cannot run, and the empirical
+/// Bernstein bound, which needs exactly those, is used instead.
 fn auto_method(spec: &Spec) -> &'static str {
-    match spec.outcome.kind {
-        spec::OutcomeKind::Binary => "exact",
-        spec::OutcomeKind::Bounded => "betting",
+    match (spec.outcome.kind, &spec.data.source) {
+        (spec::OutcomeKind::Binary, _) => "exact",
+        (
+            spec::OutcomeKind::Bounded,
+            spec::DataSource::Summary(_) | spec::DataSource::ArmSummaries(_),
+        ) => "bernstein-empirical",
+        (spec::OutcomeKind::Bounded, _) => "betting",
     }
 }
 
@@ -421,24 +419,6 @@ fn curve(method: &Method, arm: &Arm, delta: f64, side: Side) -> Option<Curve> {
     })
 }
 
-/// Smallest number of trials with no events at all whose exact upper bound meets `limit`.
-fn zero_event_trials_needed(limit: f64, delta: f64) -> Option<u64> {
-    if !(limit > 0.0 && limit < 1.0) {
-        return None;
-    }
-    // Success-run estimate ln δ / ln(1 − limit), then confirmed with the bound itself so that
-    // floating ties cannot put it one off.
-    let estimate = (delta.ln() / (-limit).ln_1p()).ceil();
-    if !estimate.is_finite() || estimate > 1e17 {
-        return None;
-    }
-    let mut n = (estimate as u64).saturating_sub(2).max(1);
-    while bounds::exact::upper(0, n, delta) > limit {
-        n += 1;
-    }
-    Some(n)
-}
-
 /// What the data show about an assumption the data can check; `None` when these data cannot
 /// show it (for example a summary given in place of the values).
 fn data_evidence(id: &str, spec: &Spec, arms: &[Arm]) -> Option<String> {
@@ -499,6 +479,56 @@ fn data_evidence(id: &str, spec: &Spec, arms: &[Arm]) -> Option<String> {
     }
 }
 
+/// The checklist item on registration of the acceptance criteria, and a warning when the
+/// criteria changed after they were registered.
+fn registration_item(spec: &Spec) -> (ChecklistItem, Option<String>) {
+    let a = bounds::assumption("criteria-registered").expect("catalogued assumption");
+    let digest = crate::provenance::criteria_sha256(spec);
+    let registered = spec.plan.as_ref().and_then(|p| p.registered.as_deref());
+    let (status, evidence, warning) = match registered {
+        None => (
+            "open",
+            "criteria not registered before testing: the spec has no plan.registered digest"
+                .to_string(),
+            None,
+        ),
+        Some(r) if r.trim().eq_ignore_ascii_case(&digest) => (
+            "checked",
+            format!(
+                "plan.registered matches the SHA-256 of the claim and plan sections ({}…)",
+                &digest[..12]
+            ),
+            None,
+        ),
+        Some(r) => (
+            "open",
+            format!(
+                "the claim or plan changed after registration: registered {}, now {}…",
+                r.trim(),
+                &digest[..12]
+            ),
+            Some(
+                "the claim or plan section changed after it was registered \
+                 (plan.registered no longer matches): the acceptance criteria may have moved \
+                 after the data were seen"
+                    .to_string(),
+            ),
+        ),
+    };
+    (
+        ChecklistItem {
+            id: a.id.to_string(),
+            text: a.text.to_string(),
+            status: status.to_string(),
+            evidence: Some(evidence),
+            by: None,
+            date: None,
+            consequence: a.consequence.to_string(),
+        },
+        warning,
+    )
+}
+
 fn checklist(spec: &Spec, primary: &Method, arms: &[Arm]) -> Vec<ChecklistItem> {
     primary
         .assumptions
@@ -531,6 +561,12 @@ fn checklist(spec: &Spec, primary: &Method, arms: &[Arm]) -> Vec<ChecklistItem> 
                     .rationale
                     .as_ref()
                     .map(|r| format!("rationale given, not attested: {r}"));
+            } else if a.id == "values-in-range" {
+                item.evidence = Some(
+                    "only n, mean and sd were given, so the individual values could not be \
+                     checked against the declared range"
+                        .to_string(),
+                );
             }
             item
         })
@@ -876,6 +912,36 @@ pub fn analyse(spec: &Spec, data: &Dataset, ctx: &Context) -> Result<Analysis, S
                 primary.lower.unwrap_or(f64::NEG_INFINITY),
                 primary.upper.unwrap_or(f64::INFINITY),
             );
+            // At an exact tie the floating bound can land one unit above the limit; the
+            // exact test decides ties on the binomial tail itself, as the plan does.
+            let v = match (&arm.values, v, side) {
+                (Values::Counts { events }, Verdict::Inconclusive, Side::Lower)
+                    if selection.primary.id == "exact"
+                        && crate::plan::exact_test_passes(
+                            arm.n - events,
+                            arm.n,
+                            1.0 - claim_spec.limit,
+                            per_bound,
+                        ) =>
+                {
+                    Verdict::Pass
+                }
+                (
+                    Values::Counts { events },
+                    Verdict::Inconclusive,
+                    Side::Upper | Side::TwoSided,
+                ) if selection.primary.id == "exact"
+                    && crate::plan::exact_test_passes(
+                        *events,
+                        arm.n,
+                        claim_spec.limit,
+                        per_bound,
+                    ) =>
+                {
+                    Verdict::Pass
+                }
+                _ => v,
+            };
             let (mean, events, values) = match &arm.values {
                 Values::Counts { events } => (*events as f64 / arm.n as f64, Some(*events), None),
                 Values::Bounded(b) => (
@@ -939,7 +1005,7 @@ pub fn analyse(spec: &Spec, data: &Dataset, ctx: &Context) -> Result<Analysis, S
         if arm.verdict == Verdict::Inconclusive
             && deciding_is_upper(side)
             && arm.events.is_some()
-            && let Some(needed) = zero_event_trials_needed(claim_spec.limit, per_bound)
+            && let Ok(needed) = crate::plan::min_trials(0, claim_spec.limit, per_bound)
             && needed > arm.n
         {
             warnings.push(format!(
@@ -950,6 +1016,22 @@ pub fn analyse(spec: &Spec, data: &Dataset, ctx: &Context) -> Result<Analysis, S
             ));
         }
     }
+
+    let (registration, moved) = registration_item(spec);
+    warnings.extend(moved);
+    let plan = match &spec.plan {
+        None => None,
+        Some(_) => match crate::plan::from_spec::plan(spec, Some(data)) {
+            Ok(p) => Some(p),
+            Err(e) => {
+                warnings.push(format!(
+                    "the plan section could not be planned: {}",
+                    e.message
+                ));
+                None
+            }
+        },
+    };
 
     let mut methods = vec![method_info(selection.primary, "primary")];
     methods.extend(selection.compare.iter().map(|m| method_info(m, "compare")));
@@ -1006,7 +1088,11 @@ pub fn analyse(spec: &Spec, data: &Dataset, ctx: &Context) -> Result<Analysis, S
             steps: budget.steps,
             display_delta_per_bound: display::probability(per_bound),
         },
-        checklist: checklist(spec, selection.primary, arms),
+        checklist: {
+            let mut items = checklist(spec, selection.primary, arms);
+            items.push(registration);
+            items
+        },
         signatures: spec
             .signatures
             .iter()
@@ -1020,6 +1106,7 @@ pub fn analyse(spec: &Spec, data: &Dataset, ctx: &Context) -> Result<Analysis, S
         arms: arm_results,
         methods,
         cautions: cautions(),
+        plan,
         omitted_methods: omitted,
         warnings,
         provenance: Provenance {
@@ -1080,14 +1167,6 @@ mod tests {
         assert_eq!(worst([Pass, Pass].into_iter()), Pass);
         assert_eq!(worst([Pass, Inconclusive].into_iter()), Inconclusive);
         assert_eq!(worst([Inconclusive, Fail, Pass].into_iter()), Fail);
-    }
-
-    // Success-run rule n = ceil(ln(1 − C) / ln R): 59 trials for 95 % / 95 % (common practice).
-    #[test]
-    fn zero_event_trials_for_95_95() {
-        assert_eq!(zero_event_trials_needed(0.05, 0.05), Some(59));
-        assert_eq!(zero_event_trials_needed(0.10, 0.05), Some(29));
-        assert_eq!(zero_event_trials_needed(0.01, 0.05), Some(299));
     }
 
     fn spec(yaml: &str) -> Spec {

@@ -41,6 +41,9 @@ pub struct Analysis {
     pub signatures: Vec<SignatureBlock>,
     /// Standing cautions printed with every result.
     pub cautions: Vec<String>,
+    /// The sample-size rationale from the spec's `plan` section, when it has one.
+    #[serde(default)]
+    pub plan: Option<crate::plan::PlanResults>,
     /// Compare methods the data could not feed, and why.
     #[serde(default)]
     pub omitted_methods: Vec<OmittedMethod>,

@@ -53,12 +53,41 @@ pub fn lower_mean(mean: f64, n: u64, delta: f64) -> f64 {
     kl_inv_lower_prob(Prob::new(mean), budget(n, delta)).p_down()
 }
 
-/// [`upper_mean`] on a bounded sample rescaled to [0, 1].
-pub fn upper_sample(sample: &crate::bounds::Sample, delta: f64) -> f64 {
-    upper_mean(sample.summary.mean(), sample.summary.n, delta)
+/// The sample's mean as an event count when its sum is a whole number (binary data, for
+/// instance), so that the bound is exactly the count-based one.
+fn whole_sum(s: &crate::bounds::Summary) -> Option<u64> {
+    let k = s.sum;
+    (k.fract() == 0.0 && k >= 0.0 && k <= s.n as f64).then_some(k as u64)
 }
 
-/// [`lower_mean`] on a bounded sample rescaled to [0, 1].
+/// [`upper_mean`] on a bounded sample rescaled to [0, 1]: `P(mean <= upper) >= 1 - delta` for
+/// independent values. A whole-number sum k gives exactly [`upper`]`(k, n, delta)`; otherwise the
+/// mean is moved up by three ulps first (a compensated sum, within an ulp, divided by n).
+/// Returns 1 for an inconsistent summary.
+pub fn upper_sample(sample: &crate::bounds::Sample, delta: f64) -> f64 {
+    let s = &sample.summary;
+    if !s.is_consistent() {
+        return 1.0;
+    }
+    match whole_sum(s) {
+        Some(k) => upper(k, s.n, delta),
+        None => upper_mean(s.mean().next_up().next_up().next_up().min(1.0), s.n, delta),
+    }
+}
+
+/// [`lower_mean`] on a bounded sample rescaled to [0, 1], the mirror of [`upper_sample`].
+/// Returns 0 for an inconsistent summary.
 pub fn lower_sample(sample: &crate::bounds::Sample, delta: f64) -> f64 {
-    lower_mean(sample.summary.mean(), sample.summary.n, delta)
+    let s = &sample.summary;
+    if !s.is_consistent() {
+        return 0.0;
+    }
+    match whole_sum(s) {
+        Some(k) => lower(k, s.n, delta),
+        None => lower_mean(
+            s.mean().next_down().next_down().next_down().max(0.0),
+            s.n,
+            delta,
+        ),
+    }
 }

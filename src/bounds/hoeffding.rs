@@ -57,12 +57,23 @@ pub fn lower_mean(mean: f64, n: u64, delta: f64) -> f64 {
     }
 }
 
-/// [`upper_mean`] on a bounded sample rescaled to [0, 1].
+/// [`upper_mean`] on a bounded sample rescaled to [0, 1]: `P(mean <= upper) >= 1 - delta` for
+/// independent values (its margin of two ulps covers the rounding of the mean). Returns 1 for
+/// an inconsistent summary.
 pub fn upper_sample(sample: &crate::bounds::Sample, delta: f64) -> f64 {
-    upper_mean(sample.summary.mean(), sample.summary.n, delta)
+    let s = &sample.summary;
+    if !s.is_consistent() {
+        return 1.0;
+    }
+    upper_mean(s.mean(), s.n, delta)
 }
 
-/// [`lower_mean`] on a bounded sample rescaled to [0, 1].
+/// [`lower_mean`] on a bounded sample rescaled to [0, 1]. Returns 0 for an inconsistent
+/// summary.
 pub fn lower_sample(sample: &crate::bounds::Sample, delta: f64) -> f64 {
-    lower_mean(sample.summary.mean(), sample.summary.n, delta)
+    let s = &sample.summary;
+    if !s.is_consistent() {
+        return 0.0;
+    }
+    lower_mean(s.mean(), s.n, delta)
 }

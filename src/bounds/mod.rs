@@ -4,10 +4,14 @@
 //! all read [`CATALOGUE`] and [`ASSUMPTIONS`]. Adding a method is one new file in this folder plus
 //! one entry in [`CATALOGUE`].
 
+pub mod bernstein_empirical;
+pub mod bernstein_unexpected;
+pub mod betting;
 pub mod chernoff_kl;
 pub mod exact;
 pub mod hoeffding;
 pub mod sample;
+pub mod split_kl;
 
 pub use sample::{Needs, Sample, Summary};
 
@@ -92,7 +96,8 @@ pub struct CountBounds {
     pub lower: fn(u64, u64, f64) -> f64,
 }
 
-/// A two-sided interval `(lower, upper)` from a bounded sample at total error delta.
+/// A two-sided interval `(lower, upper)` on the mean of values rescaled to [0, 1] at total
+/// error `delta`: `P(lower <= mean <= upper) >= 1 - delta`.
 pub type IntervalFn = fn(&Sample, f64) -> (f64, f64);
 
 /// One-sided bounds (and, for methods built two-sided, an interval) on the mean of values
@@ -176,6 +181,31 @@ pub static ASSUMPTIONS: &[Assumption] = &[
         confirmation: Confirmation::Attestation,
     },
     Assumption {
+        id: "identical-distribution",
+        text: "Every trial draws its value from one and the same distribution: same design, \
+               build, configuration and test conditions throughout the campaign.",
+        consequence: "These bounds estimate the spread from the sample itself; if conditions \
+                      changed, that estimate can understate it and the bound can be too narrow.",
+        confirmation: Confirmation::Attestation,
+    },
+    Assumption {
+        id: "constant-conditional-mean",
+        text: "Whatever happened in earlier trials, the expected value of the next one is the \
+               same number: trials may influence each other's spread, but not their mean.",
+        consequence: "If the mean drifts or follows earlier results, the bound may not hold \
+                      for any single value of the mean, including the one in use.",
+        confirmation: Confirmation::Attestation,
+    },
+    Assumption {
+        id: "values-in-range",
+        text: "Every observed value lies inside the declared range [a, b], and the range was \
+               fixed before the data were seen.",
+        consequence: "The bounds rest on the range alone in place of a distribution; a value \
+                      outside it voids the guarantee, and a range chosen from the data can be \
+                      too narrow for the values it must cover.",
+        confirmation: Confirmation::Data,
+    },
+    Assumption {
         id: "fixed-sample-size",
         text: "The number of trials was fixed before testing, and testing did not stop or \
                continue because of the results seen.",
@@ -196,6 +226,14 @@ pub static ASSUMPTIONS: &[Assumption] = &[
         consequence: "The guarantee then holds for the tested population only, not for the \
                       product in use.",
         confirmation: Confirmation::Attestation,
+    },
+    Assumption {
+        id: "criteria-registered",
+        text: "The claim and the plan (limit, confidence, scope, planned trials) were fixed \
+               and registered before the test data were seen.",
+        consequence: "Criteria chosen or moved after seeing the data can make almost any \
+                      result pass; the stated false-pass risk then no longer holds.",
+        confirmation: Confirmation::Data,
     },
 ];
 
@@ -292,6 +330,143 @@ pub static CATALOGUE: &[Method] = &[
             upper: hoeffding::upper_sample,
             lower: hoeffding::lower_sample,
             interval: None,
+        }),
+    },
+    Method {
+        id: "bernstein-empirical",
+        name: "Empirical Bernstein (Maurer–Pontil)",
+        statement: "For n ≥ 2 independent values in [0, 1] from one distribution, the true mean \
+                    exceeds the sample mean by more than a variance term and a range term with \
+                    probability at most δ. The sample variance stands in for the unknown one, \
+                    which costs ln(2/δ) in place of ln(1/δ) and the constant 7/3.",
+        formula_typst: "U = overline(x) + sqrt((2 V_n ln(2 slash delta)) / n) \
+                        + (7 ln(2 slash delta)) / (3 (n - 1)), quad \
+                        V_n = 1/(n-1) sum_(i=1)^n (x_i - overline(x))^2",
+        citation: "A. Maurer and M. Pontil (2009), \"Empirical Bernstein bounds and sample \
+                   variance penalization\", Proc. 22nd Conference on Learning Theory (COLT), \
+                   Theorem 4 (arXiv:0907.3740).",
+        outcomes: &[OutcomeKind::Bounded],
+        dependence: &[Dependence::Independent],
+        guarantee: Guarantee::FixedN,
+        two_sided_built: false,
+        assumptions: &[
+            "values-in-range",
+            "independent-trials",
+            "identical-distribution",
+            "fixed-sample-size",
+            "complete-records",
+            "representative-trials",
+        ],
+        counts: None,
+        bounded: Some(BoundedBounds {
+            needs: Needs::Moments,
+            upper: bernstein_empirical::upper,
+            lower: bernstein_empirical::lower,
+            interval: None,
+        }),
+    },
+    Method {
+        id: "bernstein-unexpected",
+        name: "Unexpected Bernstein (grid of rates)",
+        statement: "For independent values in [0, 1] and any rate η in (0, 1), \
+                    exp(η(μ − X) − ψ(−η)X²) has expectation at most 1, with \
+                    ψ(u) = u − ln(1 + u). The k rates 1/2, 1/4, …, 1/2^k are fixed from n and δ \
+                    alone; they share δ by a union bound and the smallest of the k bounds is \
+                    reported.",
+        formula_typst: "U = min_(eta in {2^(-1), ..., 2^(-k)}) [overline(x) \
+                        + psi(-eta) / eta dot overline(x^2) + ln(k slash delta) / (eta n)], \
+                        quad psi(u) = u - ln(1 + u), quad \
+                        k = max(1, ceil(log_2 (1/2 sqrt(n slash ln(1 slash delta)))))",
+        citation: "Z. Mhammedi, P. Grünwald and B. Guedj (2019), \"PAC-Bayes un-expected \
+                   Bernstein inequality\", Advances in Neural Information Processing Systems \
+                   32:12202–12213; X. Fan, I. Grama and Q. Liu (2012), \"Hoeffding's \
+                   inequality for supermartingales\", Stochastic Process. Appl. \
+                   122(10):3545–3559.",
+        outcomes: &[OutcomeKind::Bounded],
+        dependence: &[Dependence::Independent],
+        guarantee: Guarantee::FixedN,
+        two_sided_built: false,
+        assumptions: &[
+            "values-in-range",
+            "independent-trials",
+            "identical-distribution",
+            "fixed-sample-size",
+            "complete-records",
+            "representative-trials",
+        ],
+        counts: None,
+        bounded: Some(BoundedBounds {
+            needs: Needs::Moments,
+            upper: bernstein_unexpected::upper,
+            lower: bernstein_unexpected::lower,
+            interval: None,
+        }),
+    },
+    Method {
+        id: "split-kl",
+        name: "Split-kl",
+        statement: "Each value in [0, 1] is split at ½ into the part above and the part below; \
+                    each part, doubled, is a [0, 1] variable with its own Chernoff-kl bound at \
+                    δ/2. Tight when the values sit on 0, ½ and 1, where both parts are binary; \
+                    on binary data it equals Chernoff-kl at δ/2.",
+        formula_typst: "U = 1/2 + 1/2 \"kl\"_+^(-1)(2 hat(p)^+, epsilon) \
+                        - 1/2 \"kl\"_-^(-1)(2 hat(p)^-, epsilon), quad \
+                        epsilon = ln(2 slash delta) / n, quad \
+                        hat(p)^(plus.minus) = 1/n sum_(i=1)^n max(0, plus.minus (x_i - 1/2))",
+        citation: "Y.-S. Wu and Y. Seldin (2022), \"Split-kl and PAC-Bayes-split-kl \
+                   inequalities for ternary random variables\", Advances in Neural \
+                   Information Processing Systems 35 (arXiv:2206.00706).",
+        outcomes: &[OutcomeKind::Bounded],
+        dependence: &[Dependence::Independent],
+        guarantee: Guarantee::FixedN,
+        two_sided_built: false,
+        assumptions: &[
+            "values-in-range",
+            "independent-trials",
+            "identical-distribution",
+            "fixed-sample-size",
+            "complete-records",
+            "representative-trials",
+        ],
+        counts: None,
+        bounded: Some(BoundedBounds {
+            needs: Needs::Split,
+            upper: split_kl::upper,
+            lower: split_kl::lower,
+            interval: None,
+        }),
+    },
+    Method {
+        id: "betting",
+        name: "Betting (Waudby-Smith–Ramdas)",
+        statement: "For every candidate mean m, a gambler bets against it with stakes set from \
+                    earlier values only. Under the true mean the capital is a fair game, so by \
+                    Ville's inequality it ever reaches 1/δ with probability at most δ. The bound \
+                    is the edge of the candidates whose capital stayed below 1/δ throughout the \
+                    n trials. Trials may depend on each other, provided each has the same mean \
+                    given the past.",
+        formula_typst: "U = inf {m : max_(t <= n) product_(i=1)^t (1 + lambda_i (m) (m - x_i)) \
+                        >= 1 slash delta}, quad lambda_i (m) = min(sqrt((2 ln(1 slash delta)) \
+                        / (n hat(sigma)_(i-1)^2)), 1 / (2 (1 - m)))",
+        citation: "I. Waudby-Smith and A. Ramdas (2024), \"Estimating means of bounded random \
+                   variables by betting\", J. R. Stat. Soc. B 86(1):1–27 (arXiv:2010.09686).",
+        outcomes: &[OutcomeKind::Bounded],
+        dependence: &[Dependence::Independent, Dependence::Martingale],
+        guarantee: Guarantee::FixedN,
+        two_sided_built: true,
+        assumptions: &[
+            "values-in-range",
+            "constant-conditional-mean",
+            "fixed-sample-size",
+            "complete-records",
+            "representative-trials",
+        ],
+        counts: None,
+        bounded: Some(BoundedBounds {
+            needs: Needs::Observations,
+            upper: betting::upper,
+            lower: betting::lower,
+            interval: Some(betting::interval),
         }),
     },
 ];

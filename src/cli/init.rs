@@ -7,6 +7,12 @@ use std::path::PathBuf;
 /// The annotated starter spec for binary outcomes; it runs as it is.
 pub const STARTER_BINARY: &str = include_str!("../../templates/init-binary.yaml");
 
+/// The annotated starter spec for bounded outcomes; it runs as it is.
+pub const STARTER_BOUNDED: &str = include_str!("../../templates/init-bounded.yaml");
+
+/// File name of the schema the starter specs point editors to, written beside them.
+pub const SCHEMA_FILE: &str = "surety-study.schema.json";
+
 /// Kind of outcome the starter spec is for.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, clap::ValueEnum)]
 pub enum OutcomeArg {
@@ -29,17 +35,38 @@ pub struct Args {
     pub force: bool,
 }
 
-/// Write the starter spec.
+/// Write the starter spec, and the schema it names beside it for editors.
 pub fn run(args: Args) -> Result<i32, Error> {
-    if args.outcome == OutcomeArg::Bounded {
-        return Err(Error::Usage(
-            "bounded outcomes are not analysed by this version of surety; use --outcome binary"
-                .to_string(),
-        ));
-    }
-    output::write_new(&args.file, STARTER_BINARY.as_bytes(), args.force)?;
+    let text = match args.outcome {
+        OutcomeArg::Binary => STARTER_BINARY,
+        OutcomeArg::Bounded => STARTER_BOUNDED,
+    };
+    output::write_new(&args.file, text.as_bytes(), args.force)?;
+    let mut schema = serde_json::to_string_pretty(&crate::spec::schema()).unwrap_or_default();
+    schema.push('\n');
+    let schema_path = args
+        .file
+        .parent()
+        .map(|p| p.join(SCHEMA_FILE))
+        .unwrap_or_else(|| PathBuf::from(SCHEMA_FILE));
+    // The schema is generated, but a file of that name may be somebody's: replace it only
+    // when it is ours already (same text) or when asked to.
+    let schema_note = match std::fs::read_to_string(&schema_path) {
+        Ok(existing) if existing == schema => String::new(),
+        Ok(_) if !args.force => format!(
+            "kept the existing {} (pass --force to replace it with this version's schema)\n",
+            schema_path.display()
+        ),
+        _ => {
+            output::write_new(&schema_path, schema.as_bytes(), true)?;
+            format!(
+                "wrote {} (the spec's JSON Schema, for editors)\n",
+                schema_path.display()
+            )
+        }
+    };
     super::print_stdout(&format!(
-        "wrote {f}\nedit it, then: surety check {f} && surety run {f}\n",
+        "wrote {f}\n{schema_note}edit it, then: surety check {f} && surety run {f}\n",
         f = args.file.display()
     ));
     Ok(0)

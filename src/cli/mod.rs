@@ -5,7 +5,10 @@ pub mod check;
 pub mod completions;
 pub mod init;
 pub mod methods;
+pub mod plan;
 pub mod run;
+pub mod schema;
+pub mod verify;
 
 use crate::error::Error;
 use clap::{Parser, Subcommand};
@@ -27,10 +30,17 @@ pub enum Command {
     Init(init::Args),
     /// Validate a spec and list the assumptions the guarantee will rest on.
     Check(check::Args),
+    /// Sample sizes, operating characteristics and trials still needed, from the spec's claim
+    /// and plan section.
+    Plan(plan::Args),
     /// Compute the guarantee and write <out>/report.pdf and <out>/results.json.
     Run(run::Args),
+    /// Recheck a report.pdf or results.json: hashes, recomputed numbers, report bytes.
+    Verify(verify::Args),
     /// List the method catalogue and what each method is valid for.
     Methods(methods::Args),
+    /// Print the JSON Schema of the study spec (for editors that validate YAML as you type).
+    Schema(schema::Args),
     /// Print a shell completion script.
     Completions(completions::Args),
 }
@@ -40,8 +50,11 @@ pub fn dispatch(cli: Cli) -> Result<i32, Error> {
     match cli.command {
         Command::Init(args) => init::run(args),
         Command::Check(args) => check::run(args),
+        Command::Plan(args) => plan::run(args),
         Command::Run(args) => run::run(args),
+        Command::Verify(args) => verify::run(args),
         Command::Methods(args) => methods::run(args),
+        Command::Schema(args) => schema::run(args),
         Command::Completions(args) => completions::run(args),
     }
 }

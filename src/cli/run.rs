@@ -36,6 +36,16 @@ pub fn run(args: Args) -> Result<i32, Error> {
             ("report.pdf", &artifacts.pdf),
         ],
     )?;
+    // Criteria that moved after registration are flagged on stderr as well as in the report.
+    for c in &prepared.analysis.checklist {
+        if c.id == "criteria-registered"
+            && c.status == "open"
+            && let Some(e) = &c.evidence
+            && e.starts_with("the claim or plan changed")
+        {
+            eprintln!("warning: {e}");
+        }
+    }
     let wrote = format!(
         "wrote {} and {}\n",
         out.join("report.pdf").display(),

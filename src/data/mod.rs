@@ -5,7 +5,7 @@
 //! this folder. Either way the analysis receives a [`Dataset`] and never touches a file.
 
 use crate::bounds::Summary;
-use crate::spec::{DataSource, Spec};
+use crate::spec::{DataSource, Spec, SummaryStats};
 
 /// Every arm's data, plus the files they came from.
 #[derive(Debug, Clone, Default)]
@@ -65,6 +65,34 @@ pub struct FileInput {
     pub rows: u64,
 }
 
+/// An arm given as n, mean and sd (data units), as the bounded methods see it: rescaled to
+/// [0, 1] with the sum of squares recovered from the sample variance,
+/// Σx² = (n − 1)·s² + n·x̄². The extremes are unknown, so they are taken as the range's ends.
+fn summary_arm(name: &str, stats: &SummaryStats, spec: &Spec) -> Arm {
+    let (a, b) = spec.outcome.range.unwrap_or((0.0, 1.0));
+    let w = b - a;
+    let n = stats.n as f64;
+    let mean = ((stats.mean - a) / w).clamp(0.0, 1.0);
+    let sd = stats.sd / w;
+    Arm {
+        name: name.to_string(),
+        n: stats.n,
+        values: Values::Bounded(BoundedValues {
+            summary: Summary {
+                n: stats.n,
+                sum: n * mean,
+                sum_sq: ((n - 1.0) * sd * sd + n * mean * mean).min(n * mean),
+                min: 0.0,
+                max: 1.0,
+                split: None,
+            },
+            observations: None,
+            histogram: None,
+            stated_sd: Some(stats.sd),
+        }),
+    }
+}
+
 /// The dataset written inline in the spec; `None` when the spec names a data file.
 pub fn inline(spec: &Spec) -> Option<Dataset> {
     let arms = match &spec.data.source {
@@ -80,6 +108,11 @@ pub fn inline(spec: &Spec) -> Option<Dataset> {
                 n: a.trials,
                 values: Values::Counts { events: a.events },
             })
+            .collect(),
+        DataSource::Summary(stats) => vec![summary_arm("all", stats, spec)],
+        DataSource::ArmSummaries(arms) => arms
+            .iter()
+            .map(|a| summary_arm(&a.name, &a.summary, spec))
             .collect(),
         DataSource::File(_) => return None,
     };

@@ -5,9 +5,11 @@
 //! typst source that reads every value from the results JSON, [`world`] serves those files and
 //! the embedded [`fonts`] to typst, and [`pdf`] compiles and exports the document.
 
+pub mod extract;
 pub mod fonts;
 pub mod json;
 pub mod pdf;
+pub mod plan_summary;
 mod plots;
 pub mod summary;
 pub mod template;

@@ -18,7 +18,7 @@ use typst_pdf::{PdfOptions, PdfStandard, PdfStandards, Timestamp};
 
 use super::fonts;
 use super::plots;
-use super::template::{self, ARMS_PLOT, TEMPLATE_NAME, curve_path};
+use super::template::{self, ARMS_PLOT, TEMPLATE_NAME, compare_path, curve_path, histogram_path};
 use super::world::{ReportWorld, file_id};
 use crate::analysis::model::Analysis;
 use crate::provenance::hex;
@@ -39,6 +39,8 @@ pub struct ReportInputs<'a> {
     pub spec_bytes: &'a [u8],
     /// The text of a user template (`*.typ.j2`); `None` uses [`default_template`].
     pub template: Option<&'a str>,
+    /// Data files to attach, as (path recorded in provenance, bytes); empty when not embedded.
+    pub data_files: &'a [(String, Vec<u8>)],
 }
 
 /// Where in a generated or served file a diagnostic points (1-based line and column).
@@ -257,8 +259,16 @@ pub fn render_pdf(inputs: &ReportInputs) -> Result<Vec<u8>, ReportError> {
     let font_set = fonts::font_set().map_err(ReportError::Internal)?;
 
     let spec = SpecNames::new(inputs.spec_name);
+    let data_names = data_attachment_names(inputs.data_files, &spec.attach);
+    let data_json: Vec<_> = data_names
+        .iter()
+        .map(|(served, attach, recorded)| {
+            serde_json::json!({"served": served, "attach": attach, "path": recorded})
+        })
+        .collect();
     let report_json = serde_json::json!({
         "spec": {"served": spec.served, "attach": spec.attach},
+        "data": data_json,
         "render": {
             "template": if user_template { "user" } else { "default" },
             "template_sha256": template_sha256(template_text),
@@ -283,7 +293,16 @@ pub fn render_pdf(inputs: &ReportInputs) -> Result<Vec<u8>, ReportError> {
     if let Some(svg) = plots.arms {
         put(ARMS_PLOT, Bytes::from_string(svg))?;
     }
+    for (i, svg) in plots.compare.into_iter().enumerate() {
+        put(&compare_path(i), Bytes::from_string(svg))?;
+    }
+    for (i, svg) in plots.histograms.into_iter().enumerate() {
+        put(&histogram_path(i), Bytes::from_string(svg))?;
+    }
     put(&spec.served, Bytes::new(inputs.spec_bytes.to_vec()))?;
+    for ((served, _, _), (_, bytes)) in data_names.iter().zip(inputs.data_files) {
+        put(served, Bytes::new(bytes.clone()))?;
+    }
 
     let world = ReportWorld::new(
         file_id(MAIN).map_err(ReportError::Internal)?,
@@ -374,6 +393,36 @@ fn results_digest(a: &Analysis, results_json: &[u8]) -> String {
 /// Whether a diagnostic in `path` is a defect of surety rather than of user input.
 fn is_generated(path: &str, user_template: bool) -> bool {
     (path == MAIN && !user_template) || path.starts_with("data/") || path.starts_with("plots/")
+}
+
+/// For each data file: (path served to typst, attachment name, path recorded in provenance).
+/// Attachment names are the files' own names, made unique against the spec and results.json.
+fn data_attachment_names(
+    files: &[(String, Vec<u8>)],
+    spec_attach: &str,
+) -> Vec<(String, String, String)> {
+    let mut taken: Vec<String> = vec![spec_attach.to_owned(), "results.json".to_owned()];
+    files
+        .iter()
+        .enumerate()
+        .map(|(i, (recorded, _))| {
+            let base = recorded.rsplit(['/', '\\']).next().unwrap_or("").trim();
+            let clean: String = base
+                .chars()
+                .map(|c| if c.is_control() { '_' } else { c })
+                .collect();
+            let mut name = if clean.is_empty() || clean == "." || clean == ".." {
+                format!("data-{}", i + 1)
+            } else {
+                clean
+            };
+            while taken.contains(&name) {
+                name = format!("data-{name}");
+            }
+            taken.push(name.clone());
+            (format!("inputs/{:02}", i + 1), name, recorded.clone())
+        })
+        .collect()
 }
 
 /// Names under which the spec is served to typst and attached to the PDF.

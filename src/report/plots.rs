@@ -17,7 +17,7 @@ use plotters::prelude::*;
 use plotters::style::FontStyle;
 
 use super::fonts::{SANS_BOLD, SANS_FAMILY, SANS_REGULAR};
-use crate::analysis::model::{Analysis, ArmResult, Curve};
+use crate::analysis::model::{Analysis, ArmResult, BoundResult, Curve};
 
 const INK: RGBColor = RGBColor(0x22, 0x25, 0x2a);
 const GRID: RGBColor = RGBColor(0xe2, 0xe4, 0xe8);
@@ -25,6 +25,10 @@ const AXIS: RGBColor = RGBColor(0x8a, 0x90, 0x98);
 const ACCENT: RGBColor = RGBColor(0x1f, 0x4e, 0x79);
 const SECOND: RGBColor = RGBColor(0x7d, 0x84, 0x8c);
 const LIMIT: RGBColor = RGBColor(0x9b, 0x3d, 0x2f);
+/// Histogram bars: a light tint of the accent, so that the mean line drawn over them stays clear.
+const BAR: RGBColor = RGBColor(0xb4, 0xc7, 0xda);
+/// Bands behind group headings, and the parts of a histogram axis outside the declared range.
+const BAND: RGBColor = RGBColor(0xee, 0xf0, 0xf2);
 
 /// An axis whose ticks are given, rather than chosen by plotters from floating-point
 /// arithmetic, so that tick positions and labels are the same on every machine.
@@ -67,8 +71,12 @@ fn log_axis(lo: f64, hi: f64) -> Ticked<LogCoord<f64>> {
 }
 
 fn linear_axis(hi: f64, ticks: Vec<f64>) -> Ticked<RangedCoordf64> {
+    span_axis(0.0, hi, ticks)
+}
+
+fn span_axis(lo: f64, hi: f64, ticks: Vec<f64>) -> Ticked<RangedCoordf64> {
     Ticked {
-        inner: (0.0..hi).into(),
+        inner: (lo..hi).into(),
         ticks,
     }
 }
@@ -79,6 +87,53 @@ pub(crate) struct PlotSet {
     pub curves: Vec<String>,
     /// The chart comparing all arms; only drawn when there is more than one arm.
     pub arms: Option<String>,
+    /// Method comparison charts, one per run of arms given by [`compare_parts`].
+    pub compare: Vec<String>,
+    /// One histogram of the observed values per arm that has one ([`histogram_of`]), in arm
+    /// order.
+    pub histograms: Vec<String>,
+}
+
+/// Most method rows (plus arm headings) one comparison chart holds, so that it fits a page.
+const COMPARE_ROWS_PER_CHART: usize = 30;
+
+/// How the arms are split over method comparison charts: consecutive runs of arm indices, in
+/// order. Empty when no arm has a compare method (the per-arm chart then says it all).
+pub(crate) fn compare_parts(a: &Analysis) -> Vec<Range<usize>> {
+    if a.arms.iter().all(|arm| arm.compare.is_empty()) {
+        return Vec::new();
+    }
+    let heading = usize::from(a.arms.len() > 1);
+    let rows: Vec<usize> = a
+        .arms
+        .iter()
+        .map(|arm| heading + 1 + arm.compare.len())
+        .collect();
+    let total: usize = rows.iter().sum();
+    // Parts of even size rather than full charts followed by a stub.
+    let target = total.div_ceil(total.div_ceil(COMPARE_ROWS_PER_CHART).max(1));
+    let mut parts = Vec::new();
+    let (mut start, mut used) = (0, 0);
+    for (i, r) in rows.iter().enumerate() {
+        if i > start && (used >= target || used + r > COMPARE_ROWS_PER_CHART) {
+            parts.push(start..i);
+            start = i;
+            used = 0;
+        }
+        used += r;
+    }
+    parts.push(start..a.arms.len());
+    parts
+}
+
+/// An arm's histogram counts and the declared range they cover, when there is one that can be
+/// drawn (at least one bin over a range of positive width).
+pub(crate) fn histogram_of(arm: &ArmResult) -> Option<(&[u64], [f64; 2])> {
+    let values = arm.values.as_ref()?;
+    let counts = values.histogram.as_deref()?;
+    let [lo, hi] = values.range;
+    (!counts.is_empty() && lo.is_finite() && hi.is_finite() && hi > lo)
+        .then_some((counts, values.range))
 }
 
 /// Registers the embedded sans faces with plotters' font registry (once per process).
@@ -97,11 +152,16 @@ fn register_fonts() -> Result<(), String> {
     .clone()
 }
 
-/// How values are shown on a rate axis: binary outcomes as percentages, bounded ones in their
-/// declared unit.
+/// How values are shown on a value axis: binary outcomes as percentages (or per million, per
+/// billion), bounded ones in their declared unit.
 struct Scale {
     factor: f64,
     suffix: String,
+    /// Where a value axis naturally starts, in data units: 0 for a rate, the start a of the
+    /// declared range [a, b] for a bounded outcome.
+    origin: f64,
+    /// What the arms' central value is called: `rate` or `mean`.
+    word: &'static str,
 }
 
 impl Scale {
@@ -123,11 +183,27 @@ impl Scale {
             Scale {
                 factor,
                 suffix: suffix.into(),
+                origin: 0.0,
+                word: "rate",
             }
         } else {
+            let origin = a
+                .outcome
+                .range
+                .or_else(|| {
+                    a.arms
+                        .iter()
+                        .find_map(|arm| arm.values.as_ref())
+                        .map(|v| v.range)
+                })
+                .map(|r| r[0])
+                .filter(|v| v.is_finite())
+                .unwrap_or(0.0);
             Scale {
                 factor: 1.0,
-                suffix: a.outcome.unit.clone().unwrap_or_default(),
+                suffix: clean(a.outcome.unit.as_deref().unwrap_or_default()),
+                origin,
+                word: "mean",
             }
         }
     }
@@ -161,7 +237,25 @@ pub(crate) fn render_plots(a: &Analysis) -> Result<PlotSet, String> {
     } else {
         None
     };
-    Ok(PlotSet { curves, arms })
+    let parts = compare_parts(a);
+    let compare = parts
+        .iter()
+        .map(|part| compare_svg(a, part.clone(), parts.len(), &scale))
+        .collect::<Result<Vec<_>, _>>()?;
+    let histograms = a
+        .arms
+        .iter()
+        .filter_map(|arm| {
+            histogram_of(arm)
+                .map(|(counts, range)| histogram_svg(a, arm, counts, range, &scale, several))
+        })
+        .collect::<Result<Vec<_>, _>>()?;
+    Ok(PlotSet {
+        curves,
+        arms,
+        compare,
+        histograms,
+    })
 }
 
 fn finite(points: &[[f64; 2]]) -> impl Iterator<Item = (f64, f64)> + Clone + '_ {
@@ -234,6 +328,89 @@ fn linear_ticks(hi: f64, target: f64) -> (Vec<f64>, usize) {
     )
 }
 
+/// Multiples of `step` inside [lo, hi], each computed from its integer multiplier so that no
+/// accumulated rounding reaches the labels.
+fn ticks_between(lo: f64, hi: f64, step: f64) -> Vec<f64> {
+    if !(step > 0.0 && lo.is_finite() && hi.is_finite() && hi >= lo) {
+        return Vec::new();
+    }
+    // A hair of slack so that an end which is itself a multiple still gets its tick.
+    let slack = step * 1e-9;
+    let first = ((lo - slack) / step).ceil() as i64;
+    let last = ((hi + slack) / step).floor() as i64;
+    (first..=last.min(first + 50))
+        .map(|k| if k == 0 { 0.0 } else { k as f64 * step })
+        .collect()
+}
+
+/// A value axis fitted to some scaled values.
+struct ValueAxis {
+    lo: f64,
+    hi: f64,
+    ticks: Vec<f64>,
+    decimals: usize,
+    /// Whether the axis was cut, so that it starts above the natural origin: said in the axis
+    /// title, because distances to the axis start then mean nothing.
+    cut: bool,
+}
+
+impl ValueAxis {
+    /// An axis from the natural `origin` (0 for rates, a for bounded values) to just past the
+    /// largest value; but when all values sit in the upper half of that span, an axis around
+    /// the values only, so that differences between methods stay visible.
+    fn fit(values: &[f64], origin: f64) -> Self {
+        let vals: Vec<f64> = values.iter().copied().filter(|v| v.is_finite()).collect();
+        let origin = if origin.is_finite() { origin } else { 0.0 };
+        let vmin = vals.iter().copied().fold(f64::INFINITY, f64::min);
+        let vmax = vals.iter().copied().fold(f64::NEG_INFINITY, f64::max);
+        let (vmin, vmax) = if vals.is_empty() {
+            (origin, origin)
+        } else {
+            (vmin, vmax)
+        };
+        let base = origin.min(vmin);
+        let reach = if vmax > base { vmax - base } else { 1.0 };
+        let mut cut = vmin - base > 0.5 * reach;
+        let (mut lo, hi) = if cut {
+            let spread = vmax - vmin;
+            let pad = if spread > 0.0 {
+                0.12 * spread
+            } else {
+                0.05 * reach
+            };
+            (vmin - pad, vmax + pad)
+        } else {
+            (base, base + reach * 1.12)
+        };
+        let (step, decimals) = nice_step(hi - lo, 6.0);
+        if cut {
+            // Start on a tick, so the first label says where the cut axis begins.
+            lo = ((lo / step).floor() * step).max(base);
+            if lo <= base {
+                cut = false;
+            }
+        }
+        ValueAxis {
+            lo,
+            hi,
+            ticks: ticks_between(lo, hi, step),
+            decimals,
+            cut,
+        }
+    }
+
+    /// The axis title: what is shown, its unit, and a warning when the axis is cut.
+    fn title(&self, what: &str, scale: &Scale) -> String {
+        let mut t = format!("{what}{}", scale.axis_unit());
+        if self.cut {
+            let origin = scale.origin * scale.factor;
+            let origin = if origin == 0.0 { 0.0 } else { origin };
+            t.push_str(&format!(" — axis does not start at {origin}"));
+        }
+        t
+    }
+}
+
 /// Groups thousands with commas, matching the model's display strings ("4,600").
 /// A tick label for a number of trials: grouped digits up to ten million, a power-of-ten form
 /// beyond, so that labels of huge campaigns stay short.
@@ -263,13 +440,18 @@ fn group(v: f64) -> String {
     out
 }
 
+/// Text fit for a plot label, whole: control characters (which XML, and so SVG, cannot carry)
+/// become spaces. For display strings, which carry the user's unit and must never be cut.
+fn clean(text: &str) -> String {
+    text.chars()
+        .map(|c| if c.is_control() { ' ' } else { c })
+        .collect()
+}
+
 /// A user string fit for a plot label: at most `max` characters, and no control characters
 /// (which XML, and so SVG, cannot carry).
 fn shorten(name: &str, max: usize) -> String {
-    let clean: String = name
-        .chars()
-        .map(|c| if c.is_control() { ' ' } else { c })
-        .collect();
+    let clean = clean(name);
     if clean.chars().count() <= max {
         clean
     } else {
@@ -287,6 +469,52 @@ fn side_word(bound: &str) -> &'static str {
 enum Key {
     Line(RGBColor, bool),
     Dot(RGBColor),
+    Block(RGBColor),
+}
+
+/// Width in pixels of `text` set in `font`, as plotters measures it.
+fn text_width(font: &FontDesc, text: &str) -> i32 {
+    font.box_size(text).map(|(w, _)| w as i32).unwrap_or(0)
+}
+
+/// Splits legend entries over as few rows as fit `width` pixels (at most three).
+fn legend_rows(entries: Vec<(Key, String)>, font_px: u32, width: u32) -> Vec<Vec<(Key, String)>> {
+    let font: FontDesc = (SANS_FAMILY, font_px).into_font();
+    let widths: Vec<i32> = entries
+        .iter()
+        .map(|(_, label)| 22 + 6 + text_width(&font, label))
+        .collect();
+    let fits = |ws: &[i32]| ws.iter().sum::<i32>() + 28 * (ws.len() as i32 - 1) <= width as i32 - 8;
+    let n = entries.len();
+    let rows = (1..=3)
+        .find(|&r| {
+            let per = n.div_ceil(r).max(1);
+            widths.chunks(per).all(fits)
+        })
+        .unwrap_or(3);
+    let per = n.div_ceil(rows).max(1);
+    let mut out = Vec::new();
+    let mut it = entries.into_iter().peekable();
+    while it.peek().is_some() {
+        out.push(it.by_ref().take(per).collect());
+    }
+    out
+}
+
+/// Draws legend rows stacked in `area`, each `row_h` pixels high.
+fn legend_stack<DB: DrawingBackend>(
+    area: &DrawingArea<DB, plotters::coord::Shift>,
+    rows: &[Vec<(Key, String)>],
+    row_h: u32,
+    font_px: u32,
+) -> Result<(), String> {
+    let mut rest = area.clone();
+    for row in rows {
+        let (this, next) = rest.split_vertically(row_h);
+        legend(&this, row, font_px)?;
+        rest = next;
+    }
+    Ok(())
 }
 
 /// Draws a legend row (outside the plotting area, so it can never hide data).
@@ -335,6 +563,13 @@ fn legend<DB: DrawingBackend>(
             Key::Dot(color) => {
                 area.draw(&Circle::new((x + sample / 2, y), 4, color.filled()))
                     .map_err(|e| e.to_string())?;
+            }
+            Key::Block(color) => {
+                area.draw(&Rectangle::new(
+                    [(x + 4, y - 6), (x + sample - 4, y + 6)],
+                    color.filled(),
+                ))
+                .map_err(|e| e.to_string())?;
             }
         }
         area.draw(&Text::new(
@@ -418,7 +653,7 @@ fn curve_svg(
         },
         deciding_display(a, arm).unwrap_or_else(|| "n/a".into())
     );
-    let limit_label = format!("limit {}", a.claim.display.limit);
+    let limit_label = format!("limit {}", clean(&a.claim.display.limit));
 
     let mut svg = String::new();
     {
@@ -560,20 +795,16 @@ fn arms_svg(a: &Analysis, scale: &Scale) -> Result<String, String> {
     let (w, h) = (660u32, 96 + row * k as u32);
     let f = scale.factor;
     let limit = a.claim.limit;
-    let xmax_raw = a
+    let values: Vec<f64> = a
         .arms
         .iter()
         .flat_map(|arm| [Some(arm.mean), deciding_value(a, arm)])
         .flatten()
         .chain([limit])
-        .filter(|v| v.is_finite())
-        .fold(0.0f64, f64::max);
-    let xmax = if xmax_raw > 0.0 {
-        xmax_raw * f * 1.12
-    } else {
-        f
-    };
-    let (xticks, decimals) = linear_ticks(xmax, 6.0);
+        .map(|v| v * f)
+        .collect();
+    let axis = ValueAxis::fit(&values, scale.origin * f);
+    let decimals = axis.decimals;
     let names: Vec<String> = a.arms.iter().map(|arm| shorten(&arm.name, 20)).collect();
     let side = side_word(deciding_side(a));
     let title = format!(
@@ -609,7 +840,7 @@ fn arms_svg(a: &Analysis, scale: &Scale) -> Result<String, String> {
             .x_label_area_size(42)
             .y_label_area_size(name_w.max(60))
             .build_cartesian_2d(
-                linear_axis(xmax, xticks),
+                span_axis(axis.lo, axis.hi, axis.ticks.clone()),
                 linear_axis(k as f64, (0..k).map(|i| i as f64 + 0.5).collect()),
             )
             .map_err(|e| e.to_string())?;
@@ -621,7 +852,7 @@ fn arms_svg(a: &Analysis, scale: &Scale) -> Result<String, String> {
             .axis_style(AXIS.stroke_width(1))
             .label_style(label_font.clone())
             .axis_desc_style(label_font.clone())
-            .x_desc(format!("rate{}", scale.axis_unit()))
+            .x_desc(axis.title(scale.word, scale))
             .x_label_formatter(&|v| format!("{:.*}", decimals, v))
             .y_label_formatter(&move |v| {
                 // Rows run top to bottom in arm order.
@@ -663,17 +894,488 @@ fn arms_svg(a: &Analysis, scale: &Scale) -> Result<String, String> {
             }
         }
         let entries = vec![
-            (Key::Dot(INK), "observed rate".to_string()),
+            (Key::Dot(INK), format!("observed {}", scale.word)),
             (
                 Key::Line(ACCENT, false),
                 format!("{side} bound, primary method"),
             ),
             (
                 Key::Line(LIMIT, true),
-                format!("limit {}", a.claim.display.limit),
+                format!("limit {}", clean(&a.claim.display.limit)),
             ),
         ];
         legend(&lower, &entries, 13)?;
+        root.present().map_err(|e| e.to_string())?;
+    }
+    Ok(svg)
+}
+
+/// The catalogue name of a method without its parenthesised authors ("Betting
+/// (Waudby-Smith–Ramdas)" → "Betting"), so that row labels stay short; the tables carry the
+/// full names.
+fn short_method_name(a: &Analysis, id: &str) -> String {
+    let name = a
+        .methods
+        .iter()
+        .find(|m| m.id == id)
+        .map(|m| m.name.as_str())
+        .unwrap_or(id);
+    let short = match name.split_once(" (") {
+        Some((head, _)) if !head.trim().is_empty() => head.trim(),
+        _ => name,
+    };
+    shorten(short, 30)
+}
+
+/// The values of a bound that a chart shows: both ends for a two-sided claim, else the
+/// deciding one.
+fn shown_bounds(a: &Analysis, b: &BoundResult) -> (Option<f64>, Option<f64>) {
+    let finite = |v: Option<f64>| v.filter(|x| x.is_finite());
+    match a.claim.side.as_str() {
+        "two-sided" => (finite(b.lower), finite(b.upper)),
+        "lower" => (finite(b.lower), None),
+        _ => (None, finite(b.upper)),
+    }
+}
+
+/// The printed form of the bound a chart shows, taken from the model's display strings.
+fn shown_display(a: &Analysis, b: &BoundResult) -> String {
+    let dash = || "—".to_string();
+    let text = match a.claim.side.as_str() {
+        "two-sided" => match (&b.display.lower, &b.display.upper) {
+            (None, None) => dash(),
+            (lo, up) => format!(
+                "{} – {}",
+                lo.clone().unwrap_or_else(dash),
+                up.clone().unwrap_or_else(dash)
+            ),
+        },
+        "lower" => b.display.lower.clone().unwrap_or_else(dash),
+        _ => b.display.upper.clone().unwrap_or_else(dash),
+    };
+    let text = clean(&text);
+    if b.vacuous {
+        format!("{text} (vacuous)")
+    } else {
+        text
+    }
+}
+
+/// One row of the method comparison chart.
+enum CompareRow<'a> {
+    /// An arm's name, above its methods (several arms only).
+    Heading(&'a ArmResult),
+    /// One method's bound on one arm; `true` for the primary method.
+    Method(&'a ArmResult, &'a BoundResult, bool),
+}
+
+/// Every method's deciding bound for the arms in `part`, on one value axis shared by all parts:
+/// a segment from the observed value to the bound, a bar at the bound, the limit, and the
+/// printed bound at the right. The primary method is drawn in the accent colour and named in
+/// bold; compare methods in grey.
+fn compare_svg(
+    a: &Analysis,
+    part: Range<usize>,
+    parts: usize,
+    scale: &Scale,
+) -> Result<String, String> {
+    let f = scale.factor;
+    let several = a.arms.len() > 1;
+    let arms = a.arms.get(part.clone()).unwrap_or(&[]);
+
+    // One axis for every part, so that separate charts of one report read alike.
+    let mut values = vec![a.claim.limit * f];
+    for arm in &a.arms {
+        values.push(arm.mean * f);
+        for b in std::iter::once(&arm.primary).chain(&arm.compare) {
+            let (lo, up) = shown_bounds(a, b);
+            values.extend(lo.into_iter().chain(up).map(|v| v * f));
+        }
+    }
+    let axis = ValueAxis::fit(&values, scale.origin * f);
+    let decimals = axis.decimals;
+
+    let mut rows = Vec::new();
+    for arm in arms {
+        if several {
+            rows.push(CompareRow::Heading(arm));
+        }
+        rows.push(CompareRow::Method(arm, &arm.primary, true));
+        rows.extend(
+            arm.compare
+                .iter()
+                .map(|c| CompareRow::Method(arm, c, false)),
+        );
+    }
+    let nrows = rows.len().max(1);
+
+    let font_px = 13u32;
+    let plain: FontDesc = (SANS_FAMILY, font_px).into_font();
+    let bold: FontDesc = (SANS_FAMILY, font_px, FontStyle::Bold).into_font();
+    let primary_label =
+        |arm: &ArmResult| format!("{} (primary)", short_method_name(a, &arm.primary.method));
+    let label_w = rows
+        .iter()
+        .map(|r| match r {
+            CompareRow::Method(arm, _, true) => text_width(&bold, &primary_label(arm)),
+            CompareRow::Method(_, b, false) => text_width(&plain, &short_method_name(a, &b.method)),
+            CompareRow::Heading(_) => 0,
+        })
+        .max()
+        .unwrap_or(0)
+        + 14;
+    let value_w = rows
+        .iter()
+        .map(|r| match r {
+            CompareRow::Method(_, b, primary) => {
+                text_width(if *primary { &bold } else { &plain }, &shown_display(a, b))
+            }
+            CompareRow::Heading(_) => 0,
+        })
+        .max()
+        .unwrap_or(0)
+        + 22;
+
+    let side = deciding_side(a);
+    let mut title = if a.claim.side == "two-sided" {
+        "Bounds by method".to_string()
+    } else {
+        format!("{} bound by method", capitalise(side))
+    };
+    if parts > 1 {
+        title.push_str(&format!(
+            ", arms {}–{} of {}",
+            part.start + 1,
+            part.end,
+            a.arms.len()
+        ));
+    }
+    title.push_str(&format!(" ({} confidence)", a.claim.display.confidence));
+    let entries = vec![
+        (Key::Dot(INK), format!("observed {}", scale.word)),
+        (
+            Key::Line(ACCENT, false),
+            "primary method (the guarantee)".to_string(),
+        ),
+        (Key::Line(SECOND, false), "compare methods".to_string()),
+        (
+            Key::Line(LIMIT, true),
+            format!("limit {}", clean(&a.claim.display.limit)),
+        ),
+    ];
+
+    let w = 660u32;
+    let row_px = 22u32;
+    let legend = legend_rows(entries, font_px, w);
+    let legend_row_h = 26u32;
+    let legend_h = legend_row_h * legend.len() as u32 + 4;
+    let h = 38 + row_px * nrows as u32 + 44 + legend_h;
+
+    let mut svg = String::new();
+    {
+        let root = SVGBackend::with_string(&mut svg, (w, h)).into_drawing_area();
+        root.fill(&WHITE).map_err(|e| e.to_string())?;
+        let (upper, lower) = root.split_vertically(h - legend_h);
+        let label_font = plain.clone().color(&INK);
+        let mut chart = ChartBuilder::on(&upper)
+            .caption(
+                &title,
+                (SANS_FAMILY, 16, FontStyle::Bold).into_font().color(&INK),
+            )
+            .margin_top(6)
+            .margin_left(8)
+            .margin_right(value_w.max(18) as u32)
+            .x_label_area_size(44)
+            .y_label_area_size(label_w.max(60) as u32)
+            .build_cartesian_2d(
+                span_axis(axis.lo, axis.hi, axis.ticks.clone()),
+                linear_axis(nrows as f64, Vec::new()),
+            )
+            .map_err(|e| e.to_string())?;
+        chart
+            .configure_mesh()
+            .bold_line_style(GRID.stroke_width(1))
+            .light_line_style(TRANSPARENT)
+            .axis_style(AXIS.stroke_width(1))
+            .label_style(label_font.clone())
+            .axis_desc_style(label_font.clone())
+            .x_desc(axis.title(scale.word, scale))
+            .x_label_formatter(&|v| format!("{:.*}", decimals, v))
+            .draw()
+            .map_err(|e| e.to_string())?;
+
+        let (px_range, _) = chart.plotting_area().get_pixel_range();
+        let err = |e: DrawingAreaErrorKind<_>| e.to_string();
+        // Row r (0 at the top) is centred at y = nrows - r - 0.5.
+        let row_y = |r: usize| nrows as f64 - r as f64 - 0.5;
+        let pixel = |x: f64, r: usize| chart.backend_coord(&(x, row_y(r)));
+        let half = (row_px / 2) as i32;
+
+        // The limit, once per arm, across that arm's method rows only (never through a heading).
+        let mut r = 0;
+        while r < rows.len() {
+            if let CompareRow::Heading(_) = rows[r] {
+                r += 1;
+                continue;
+            }
+            let start = r;
+            while r < rows.len() && matches!(rows[r], CompareRow::Method(..)) {
+                r += 1;
+            }
+            let (x, top) = pixel(a.claim.limit * f, start);
+            let (_, bottom) = pixel(a.claim.limit * f, r - 1);
+            let mut y = top - half + 1;
+            while y < bottom + half {
+                let end = (y + 7).min(bottom + half);
+                root.draw(&PathElement::new(
+                    vec![(x, y), (x, end)],
+                    LIMIT.stroke_width(2),
+                ))
+                .map_err(err)?;
+                y += 12;
+            }
+        }
+
+        for (r, row) in rows.iter().enumerate() {
+            let (_, y) = pixel(axis.lo, r);
+            match row {
+                CompareRow::Heading(arm) => {
+                    root.draw(&Rectangle::new(
+                        [(8, y - half + 2), (w as i32 - 8, y + half - 1)],
+                        BAND.filled(),
+                    ))
+                    .map_err(err)?;
+                    root.draw(&Text::new(
+                        format!("Arm {}", shorten(&arm.name, 60)),
+                        (14, y),
+                        bold.clone()
+                            .color(&INK)
+                            .pos(plotters::style::text_anchor::Pos::new(
+                                plotters::style::text_anchor::HPos::Left,
+                                plotters::style::text_anchor::VPos::Center,
+                            )),
+                    ))
+                    .map_err(err)?;
+                }
+                CompareRow::Method(arm, b, primary) => {
+                    let (color, width, font, label) = if *primary {
+                        (ACCENT, 3, bold.clone(), primary_label(arm))
+                    } else {
+                        (SECOND, 2, plain.clone(), short_method_name(a, &b.method))
+                    };
+                    let ink = if *primary { ACCENT } else { INK };
+                    root.draw(&Text::new(
+                        label,
+                        (px_range.start - 8, y),
+                        font.clone()
+                            .color(&ink)
+                            .pos(plotters::style::text_anchor::Pos::new(
+                                plotters::style::text_anchor::HPos::Right,
+                                plotters::style::text_anchor::VPos::Center,
+                            )),
+                    ))
+                    .map_err(err)?;
+                    root.draw(&Text::new(
+                        shown_display(a, b),
+                        (w as i32 - 10, y),
+                        font.color(&ink).pos(plotters::style::text_anchor::Pos::new(
+                            plotters::style::text_anchor::HPos::Right,
+                            plotters::style::text_anchor::VPos::Center,
+                        )),
+                    ))
+                    .map_err(err)?;
+                    let mean = arm.mean * f;
+                    let (lo, up) = shown_bounds(a, b);
+                    let ends: Vec<f64> = lo.into_iter().chain(up).map(|v| v * f).collect();
+                    // The segment runs from the observed value (or between two-sided ends).
+                    let span = if ends.len() == 2 {
+                        Some((ends[0], ends[1]))
+                    } else {
+                        ends.first().map(|e| (mean, *e))
+                    };
+                    if let Some((x0, x1)) = span.filter(|_| mean.is_finite()) {
+                        let (p0, _) = pixel(x0, r);
+                        let (p1, _) = pixel(x1, r);
+                        root.draw(&PathElement::new(
+                            vec![(p0, y), (p1, y)],
+                            color.stroke_width(width),
+                        ))
+                        .map_err(err)?;
+                    }
+                    // The dot goes under the bar: a bound very close to the mean must still
+                    // show its bar.
+                    if mean.is_finite() {
+                        let (p, _) = pixel(mean, r);
+                        root.draw(&Circle::new((p, y), 4, INK.filled()))
+                            .map_err(err)?;
+                    }
+                    for e in &ends {
+                        let (p, _) = pixel(*e, r);
+                        root.draw(&Rectangle::new(
+                            [(p - 2, y - 7), (p + 2, y + 7)],
+                            color.filled(),
+                        ))
+                        .map_err(err)?;
+                    }
+                }
+            }
+        }
+        legend_stack(&lower, &legend, legend_row_h, font_px)?;
+        root.present().map_err(|e| e.to_string())?;
+    }
+    Ok(svg)
+}
+
+/// The observed values of one arm in their bins across the declared range [a, b]: the range
+/// ends as solid grey lines (the padding beyond them shaded), the observed mean and the limit.
+fn histogram_svg(
+    a: &Analysis,
+    arm: &ArmResult,
+    counts: &[u64],
+    range: [f64; 2],
+    scale: &Scale,
+    small: bool,
+) -> Result<String, String> {
+    let (w, h, font_px, title_px) = if small {
+        (440u32, 330u32, 16u32, 17u32)
+    } else {
+        (660, 330, 14, 16)
+    };
+    let f = scale.factor;
+    let (ra, rb) = (range[0] * f, range[1] * f);
+    let width = rb - ra;
+    let pad = width * 0.03;
+    let (lo, hi) = (ra - pad, rb + pad);
+    let (step, decimals) = nice_step(width, if small { 4.0 } else { 6.0 });
+    let xticks = ticks_between(ra, rb, step);
+    let top = counts.iter().copied().max().unwrap_or(0) as f64;
+    let ymax = if top > 0.0 { top * 1.12 } else { 1.0 };
+    // Counts are whole numbers: never a fractional tick.
+    let (ystep, _) = nice_step(ymax, 5.0);
+    let ystep = ystep.max(1.0).ceil();
+    let yticks = ticks_between(0.0, ymax, ystep);
+
+    let title = if a.arms.len() > 1 {
+        format!("Arm {}", shorten(&arm.name, 34))
+    } else {
+        "Observed values across the declared range".to_string()
+    };
+    // The declared ends, as written in the spec: `{}` prints an f64's shortest exact decimal.
+    let range_text = if scale.suffix.is_empty() {
+        format!("declared range {ra} to {rb}")
+    } else {
+        format!("declared range {ra} to {rb}\u{a0}{}", scale.suffix)
+    };
+    let entries = vec![
+        (Key::Block(BAR), format!("values in {} bins", counts.len())),
+        (Key::Line(SECOND, false), range_text),
+        (
+            Key::Line(ACCENT, false),
+            format!("observed mean {}", clean(&arm.display.mean)),
+        ),
+        (
+            Key::Line(LIMIT, true),
+            format!("limit {}", clean(&a.claim.display.limit)),
+        ),
+    ];
+    let legend = legend_rows(entries, font_px - 1, w);
+    let legend_row_h = if small { 25 } else { 26 };
+    let legend_h = legend_row_h * legend.len() as u32 + 4;
+
+    let mut svg = String::new();
+    {
+        let root = SVGBackend::with_string(&mut svg, (w, h)).into_drawing_area();
+        root.fill(&WHITE).map_err(|e| e.to_string())?;
+        let (upper, lower) = root.split_vertically(h - legend_h);
+        let label_font = (SANS_FAMILY, font_px).into_font().color(&INK);
+        let mut chart = ChartBuilder::on(&upper)
+            .caption(
+                &title,
+                (SANS_FAMILY, title_px, FontStyle::Bold)
+                    .into_font()
+                    .color(&INK),
+            )
+            .margin_top(6)
+            .margin_left(8)
+            .margin_right(18)
+            .x_label_area_size(if small { 44 } else { 42 })
+            .y_label_area_size(if small { 70 } else { 72 })
+            .build_cartesian_2d(span_axis(lo, hi, xticks), linear_axis(ymax, yticks))
+            .map_err(|e| e.to_string())?;
+        chart
+            .configure_mesh()
+            .bold_line_style(GRID.stroke_width(1))
+            .light_line_style(TRANSPARENT)
+            .axis_style(AXIS.stroke_width(1))
+            .label_style(label_font.clone())
+            .axis_desc_style(label_font.clone())
+            .x_desc(format!("observed value{}", scale.axis_unit()))
+            .y_desc("number of values")
+            .x_label_formatter(&|v| format!("{:.*}", decimals, v))
+            .y_label_formatter(&|v| group(*v))
+            .draw()
+            .map_err(|e| e.to_string())?;
+        let err = |e: DrawingAreaErrorKind<_>| e.to_string();
+
+        // Values cannot lie beyond the declared range: shade the padding there.
+        for (x0, x1) in [(lo, ra), (rb, hi)] {
+            chart
+                .draw_series(std::iter::once(Rectangle::new(
+                    [(x0, 0.0), (x1, ymax)],
+                    BAND.filled(),
+                )))
+                .map_err(err)?;
+        }
+        let n = counts.len() as f64;
+        for (i, c) in counts.iter().enumerate() {
+            if *c == 0 {
+                continue;
+            }
+            let x0 = ra + width * i as f64 / n;
+            let x1 = ra + width * (i + 1) as f64 / n;
+            let c = *c as f64;
+            chart
+                .draw_series(std::iter::once(Rectangle::new(
+                    [(x0, 0.0), (x1, c)],
+                    BAR.filled(),
+                )))
+                .map_err(err)?;
+            chart
+                .draw_series(std::iter::once(Rectangle::new(
+                    [(x0, 0.0), (x1, c)],
+                    WHITE.stroke_width(1),
+                )))
+                .map_err(err)?;
+        }
+        for x in [ra, rb] {
+            chart
+                .draw_series(LineSeries::new(
+                    vec![(x, 0.0), (x, ymax)],
+                    SECOND.stroke_width(3),
+                ))
+                .map_err(err)?;
+        }
+        let mean = arm.mean * f;
+        if mean.is_finite() && (lo..=hi).contains(&mean) {
+            chart
+                .draw_series(LineSeries::new(
+                    vec![(mean, 0.0), (mean, ymax)],
+                    ACCENT.stroke_width(2),
+                ))
+                .map_err(err)?;
+        }
+        let limit = a.claim.limit * f;
+        if limit.is_finite() && (lo..=hi).contains(&limit) {
+            chart
+                .draw_series(DashedLineSeries::new(
+                    vec![(limit, 0.0), (limit, ymax)],
+                    7,
+                    5,
+                    LIMIT.stroke_width(2),
+                ))
+                .map_err(err)?;
+        }
+        legend_stack(&lower, &legend, legend_row_h, font_px - 1)?;
         root.present().map_err(|e| e.to_string())?;
     }
     Ok(svg)
@@ -740,5 +1442,143 @@ mod tests {
         assert_eq!(nice_step(3.0, 1.0), (1.0, 0));
         assert_eq!(nice_step(0.05, 5.0), (0.01, 2));
         assert_eq!(nice_step(30.0, 6.0), (5.0, 0));
+    }
+
+    fn bounded_sample() -> Analysis {
+        serde_json::from_str(include_str!("../../tests/data/bounded-sample-results.json"))
+            .expect("bounded sample deserializes")
+    }
+
+    /// Occurrences of an SVG element with the given fill colour.
+    fn filled(svg: &str, element: &str, fill: &str) -> usize {
+        svg.lines()
+            .filter(|l| {
+                l.trim_start().starts_with(&format!("<{element} "))
+                    && l.contains(&format!("fill=\"{fill}\""))
+            })
+            .count()
+    }
+
+    #[test]
+    fn histogram_draws_one_bar_per_occupied_bin() {
+        let a = bounded_sample();
+        let set = render_plots(&a).expect("draws");
+        assert!(set.curves.is_empty(), "bounded arms have no curve");
+        assert!(set.arms.is_none(), "one arm: no per-arm chart");
+        assert_eq!(set.histograms.len(), 1);
+        let svg = &set.histograms[0];
+        // tests/data/bounded-sample-results.json: bins 1 to 13 of 40 hold values (4847 … 6),
+        // the other 27 are empty; plus one block in the legend.
+        assert_eq!(filled(svg, "rect", "#B4C7DA"), 13 + 1);
+        // Declared range [0, 2.5] m, and the display strings of the mean and the limit, from
+        // the same file (they join number and unit with a no-break space).
+        assert!(svg.contains("declared range 0 to 2.5\u{a0}m"), "{svg}");
+        assert!(svg.contains(&format!("observed mean {}", a.arms[0].display.mean)));
+        assert!(svg.contains(&format!("limit {}", a.claim.display.limit)));
+        assert!(svg.contains("observed value (m)"));
+    }
+
+    #[test]
+    fn comparison_chart_marks_every_method() {
+        let a = bounded_sample();
+        let set = render_plots(&a).expect("draws");
+        assert_eq!(set.compare.len(), 1);
+        let svg = &set.compare[0];
+        // The sample has 1 primary (betting) and 5 compare methods, all upper bounds: one bar
+        // each, and one dot for the mean on each of the 6 rows (+1 in the legend).
+        assert_eq!(filled(svg, "rect", "#1F4E79"), 1);
+        assert_eq!(filled(svg, "rect", "#7D848C"), 5);
+        assert_eq!(filled(svg, "circle", "#22252A"), 6 + 1);
+        for b in std::iter::once(&a.arms[0].primary).chain(&a.arms[0].compare) {
+            let shown = b.display.upper.as_deref().expect("upper bound");
+            assert!(svg.contains(shown), "{shown} printed beside its bar");
+        }
+        assert!(svg.contains("Betting (primary)"));
+        assert!(svg.contains("Hoeffding"));
+        // Values 0.2812 to 0.35 m sit in the top fifth of [0, 0.35]: the axis is cut, and says so.
+        assert!(svg.contains("axis does not start at 0"));
+
+        // Three arms: one chart, grouped under arm headings.
+        let mut three = a.clone();
+        for name in ["dock-b", "dock-c"] {
+            let mut arm = three.arms[0].clone();
+            arm.name = name.into();
+            three.arms.push(arm);
+        }
+        let set = render_plots(&three).expect("draws");
+        assert_eq!(set.compare.len(), 1);
+        assert_eq!(set.histograms.len(), 3);
+        let svg = &set.compare[0];
+        assert_eq!(filled(svg, "rect", "#1F4E79"), 3);
+        assert_eq!(filled(svg, "rect", "#7D848C"), 15);
+        assert!(svg.contains("Arm dock-b") && svg.contains("Arm dock-c"));
+    }
+
+    #[test]
+    fn a_unit_with_control_characters_cannot_break_the_svg() {
+        let mut a = bounded_sample();
+        let bell = |s: &mut String| *s = s.replace('m', "m\u{7}");
+        a.outcome.unit = Some("m\u{7}".into());
+        bell(&mut a.claim.display.limit);
+        bell(&mut a.arms[0].display.mean);
+        let arm = &mut a.arms[0];
+        for b in std::iter::once(&mut arm.primary).chain(arm.compare.iter_mut()) {
+            b.display.upper.iter_mut().for_each(bell);
+        }
+        let set = render_plots(&a).expect("draws");
+        for svg in set.compare.iter().chain(&set.histograms) {
+            assert!(!svg.contains('\u{7}'));
+        }
+    }
+
+    #[test]
+    fn binary_reports_get_a_comparison_chart_too() {
+        let a: Analysis =
+            serde_json::from_str(include_str!("../../tests/data/sample-results.json")).unwrap();
+        let set = render_plots(&a).expect("draws");
+        assert_eq!(set.curves.len(), 1);
+        assert!(set.histograms.is_empty(), "no values one by one");
+        let svg = &set.compare[0];
+        // tests/data/sample-results.json: exact (primary), chernoff-kl and hoeffding.
+        assert_eq!(filled(svg, "rect", "#1F4E79"), 1);
+        assert_eq!(filled(svg, "rect", "#7D848C"), 2);
+        assert!(svg.contains("2.07 %") && svg.contains("rate (%)"));
+        assert!(!svg.contains("axis does not start"));
+    }
+
+    #[test]
+    fn comparison_charts_split_to_fit_a_page() {
+        let mut a = bounded_sample();
+        assert_eq!(compare_parts(&a), vec![0..1]);
+        // Six arms of 1 heading + 6 methods = 42 rows, more than the 30 one chart holds: two
+        // charts of 21 rows (arithmetic from COMPARE_ROWS_PER_CHART).
+        let arm = a.arms[0].clone();
+        a.arms = vec![arm; 6];
+        assert_eq!(compare_parts(&a), vec![0..3, 3..6]);
+        let set = render_plots(&a).expect("draws");
+        assert_eq!(set.compare.len(), 2);
+        assert!(set.compare[1].contains("arms 4–6 of 6"));
+        a.arms.iter_mut().for_each(|arm| arm.compare.clear());
+        assert!(compare_parts(&a).is_empty(), "nothing to compare");
+    }
+
+    #[test]
+    fn value_axes_cut_only_when_values_sit_far_from_the_origin() {
+        // Worked by hand from the rule in ValueAxis::fit: values 0.2812 to 0.35 padded by 12 %
+        // of their spread give [0.2729, 0.3583]; a step of 0.01 gives 8 intervals, the start
+        // snaps down to 0.27, and ticks run 0.27, 0.28, …, 0.35.
+        let axis = ValueAxis::fit(&[0.2812, 0.28237, 0.29869, 0.35], 0.0);
+        assert!(axis.cut);
+        assert!((axis.lo - 0.27).abs() < 1e-12, "{}", axis.lo);
+        assert_eq!(axis.ticks.len(), 9);
+        assert_eq!(axis.decimals, 2);
+        // Binary sample in percent (0.261, 0.423, 2.07, limit 1): from 0, 12 % headroom.
+        let axis = ValueAxis::fit(&[0.261, 0.423, 2.07, 1.0], 0.0);
+        assert!(!axis.cut);
+        assert_eq!(axis.lo, 0.0);
+        assert!((axis.hi - 2.07 * 1.12).abs() < 1e-12);
+        // No finite value at all still gives a usable axis.
+        let axis = ValueAxis::fit(&[f64::NAN], 0.0);
+        assert!(axis.hi > axis.lo && !axis.ticks.is_empty());
     }
 }

@@ -9,6 +9,7 @@
 use minijinja::{Environment, UndefinedBehavior, context};
 use sha2::{Digest, Sha256};
 
+use super::plots::{compare_parts, histogram_of};
 use crate::analysis::model::Analysis;
 use crate::provenance::hex;
 
@@ -33,6 +34,16 @@ pub(crate) fn curve_path(i: usize) -> String {
 /// Path of the chart comparing arms.
 pub(crate) const ARMS_PLOT: &str = "plots/arms.svg";
 
+/// Path of method comparison chart `i` (0-based; one per part from `plots::compare_parts`).
+pub(crate) fn compare_path(i: usize) -> String {
+    format!("plots/methods-{:02}.svg", i + 1)
+}
+
+/// Path of the `i`-th histogram (0-based, counted over the arms that have one).
+pub(crate) fn histogram_path(i: usize) -> String {
+    format!("plots/values-{:02}.svg", i + 1)
+}
+
 /// A failure to turn the template into typst source.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub(crate) struct TemplateFailure {
@@ -43,12 +54,15 @@ pub(crate) struct TemplateFailure {
 /// Renders `template` into the text of `main.typ`.
 ///
 /// Context variables (all structural):
-/// - `arms`: list of `{index, number, plot}` — 0-based index into `results.arms`, 1-based
-///   number, and the path of that arm's curve plot;
+/// - `arms`: list of `{index, number, plot, histogram}` — 0-based index into `results.arms`,
+///   1-based number, and the paths of that arm's curve plot and histogram (or none);
 /// - `arm_count`, `several_arms` (more than one arm), `arms_plot` (path, or none);
+/// - `compare_plots`: list of `{plot, first, last, part, parts}` — one method comparison chart
+///   per run of arms, with the 0-based indices of its first and last arm;
 /// - `methods`: list of `{index}` into `results.methods`; `signatures`: list of `{index}`;
 /// - `has_open`, `has_warnings`, `has_steps`, `has_inputs`, `has_compare`,
-///   `has_lower` (some bound has a lower value), `binary` (binary outcome).
+///   `has_lower` (some bound has a lower value), `has_curves`, `has_histograms`,
+///   `has_omitted` (some compare method was left out), `binary` (binary outcome), `bounded`.
 pub(crate) fn render_main(template: &str, a: &Analysis) -> Result<String, TemplateFailure> {
     let mut env = Environment::new();
     // Typst source is not HTML; and an unknown variable is a template bug, never silently "".
@@ -58,14 +72,34 @@ pub(crate) fn render_main(template: &str, a: &Analysis) -> Result<String, Templa
 
     let several = a.arms.len() > 1;
     // Curve plots are numbered over the arms that have a curve (binary counts).
+    // Histograms likewise over the arms that have one; both orders match `plots::render_plots`.
     let mut plotted = 0;
+    let mut binned = 0;
     let arms: Vec<_> = (0..a.arms.len())
         .map(|i| {
             let plot = a.arms[i].curve.as_ref().map(|_| {
                 plotted += 1;
                 curve_path(plotted - 1)
             });
-            context! { index => i, number => i + 1, plot => plot }
+            let histogram = histogram_of(&a.arms[i]).map(|_| {
+                binned += 1;
+                histogram_path(binned - 1)
+            });
+            context! { index => i, number => i + 1, plot => plot, histogram => histogram }
+        })
+        .collect();
+    let parts = compare_parts(a);
+    let compare_plots: Vec<_> = parts
+        .iter()
+        .enumerate()
+        .map(|(i, part)| {
+            context! {
+                plot => compare_path(i),
+                first => part.start,
+                last => part.end.saturating_sub(1),
+                part => i + 1,
+                parts => parts.len(),
+            }
         })
         .collect();
     let methods: Vec<_> = (0..a.methods.len())
@@ -79,6 +113,7 @@ pub(crate) fn render_main(template: &str, a: &Analysis) -> Result<String, Templa
         arm_count => a.arms.len(),
         several_arms => several,
         arms_plot => if several { Some(ARMS_PLOT) } else { None },
+        compare_plots => compare_plots,
         methods => methods,
         signatures => signatures,
         has_open => a.checklist.iter().any(|c| c.status == "open"),
@@ -89,7 +124,11 @@ pub(crate) fn render_main(template: &str, a: &Analysis) -> Result<String, Templa
         has_lower => a.arms.iter().any(|arm| {
             arm.primary.lower.is_some() || arm.compare.iter().any(|c| c.lower.is_some())
         }),
+        has_curves => plotted > 0,
+        has_histograms => binned > 0,
+        has_omitted => !a.omitted_methods.is_empty(),
         binary => a.outcome.kind == "binary",
+        bounded => a.outcome.kind != "binary",
     };
     env.get_template(TEMPLATE_NAME)
         .and_then(|t| t.render(ctx))

@@ -27,6 +27,10 @@ pub(crate) struct Entry {
     pub value: Mark,
     /// How the value was written, when it is a scalar.
     pub style: Option<Style>,
+    /// For a plain decimal number written with a fractional part or an exponent, the power of
+    /// ten of its last digit (`1.120` → −3, `2.5e-3` → −4): the precision the author wrote.
+    /// `None` for whole numbers written without an exponent and for anything else.
+    pub last_place: Option<i64>,
 }
 
 /// Every place read, by dotted path (`claim.confidence`, `data.arms[1].events`; `` for the
@@ -125,9 +129,18 @@ pub(crate) fn from_node<T: DeserializeOwned>(
 }
 
 fn record(trace: &RefCell<Trace>, path: &str, key: Option<Mark>, node: &Node) {
-    let style = match &node.value {
-        Value::Scalar { style, .. } => Some(*style),
-        _ => None,
+    let (style, last_place) = match &node.value {
+        Value::Scalar { style, text } => {
+            let place = number::parse_decimal(text)
+                .filter(|d| *style == Style::Plain && (!d.frac_digits.is_empty() || d.has_exponent))
+                .and_then(|d| {
+                    i64::try_from(d.frac_digits.len())
+                        .ok()
+                        .map(|f| d.exponent - f)
+                });
+            (Some(*style), place)
+        }
+        _ => (None, None),
     };
     trace.borrow_mut().insert(
         path.to_owned(),
@@ -135,6 +148,7 @@ fn record(trace: &RefCell<Trace>, path: &str, key: Option<Mark>, node: &Node) {
             key,
             value: node.mark,
             style,
+            last_place,
         },
     );
 }

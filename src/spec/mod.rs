@@ -8,7 +8,7 @@
 //! 3. `de`: serde fills the spec as written (`raw`): unknown, missing and mistyped keys;
 //! 4. `validate`: the meaning: ranges, exactly-one-of rules, keys that depend on other keys.
 //!
-//! Only [`load`] touches the file system.
+//! Only [`load`] touches the file system. [`schema`] describes the same format as a JSON Schema.
 
 pub(crate) mod confidence;
 mod date;
@@ -17,6 +17,7 @@ mod error;
 mod model;
 mod number;
 mod raw;
+mod schema;
 pub(crate) mod suggest;
 mod validate;
 mod yaml;
@@ -26,6 +27,7 @@ use std::path::Path;
 
 pub use error::{Location, SpecError};
 pub use model::*;
+pub use schema::{SCHEMA_ID, schema};
 
 use error::{Mark, RawError};
 
@@ -124,7 +126,7 @@ fn with_missing_hint(e: RawError) -> RawError {
         // A section written as a single value: say how the section is written.
         let section = match key {
             "data" => {
-                "`data` is a mapping: write `trials:` and `events:`, `arms:`, or `file:` indented under it"
+                "`data` is a mapping: write `trials:` and `events:`, `arms:`, or `file:` indented under it (or `n:`, `mean:` and `sd:` for a summary of bounded values)"
             }
             "study" | "claim" | "outcome" | "dependence" | "looks" | "method" | "plan"
             | "report" | "attestations" => {
@@ -168,9 +170,11 @@ fn with_missing_hint(e: RawError) -> RawError {
         "outcome.type" => {
             "binary (each trial passes or fails) or bounded (a value in a declared range)"
         }
-        "data" => "give `trials` and `events`, a list of `arms`, or a `file`",
-        "data.arms.name" | "data.arms.trials" | "data.arms.events" => {
-            "each arm is written {name: A, trials: 100, events: 1}"
+        "data" => {
+            "give `trials` and `events`, a list of `arms`, a `file`, or (bounded values) `n`, `mean` and `sd`"
+        }
+        "data.arms.name" => {
+            "each arm is written {name: A, trials: 100, events: 1}, or for bounded values {name: A, n: 40, mean: 1.2, sd: 0.3}"
         }
         "attestations.by" => "who confirms the assumption, for example by: Test lead",
         "signatures.role" | "signatures.meaning" => {

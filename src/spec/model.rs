@@ -198,7 +198,7 @@ pub enum OutcomeKind {
 /// `data:` — where the outcomes come from.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 pub struct Data {
-    /// Which of the three forms was given.
+    /// Which of the forms was given.
     pub source: DataSource,
     /// Column holding the outcome (file only).
     pub column: Option<String>,
@@ -210,7 +210,7 @@ pub struct Data {
     pub order_column: Option<String>,
 }
 
-/// Exactly one of the three forms of `data`.
+/// Exactly one of the forms of `data`.
 #[derive(Debug, Clone, PartialEq, Serialize)]
 #[serde(rename_all = "kebab-case")]
 pub enum DataSource {
@@ -225,6 +225,10 @@ pub enum DataSource {
     Arms(Vec<ArmCounts>),
     /// A data file, relative to the spec file, as written.
     File(PathBuf),
+    /// A summary of the bounded values of one arm (bounded outcomes only).
+    Summary(SummaryStats),
+    /// A summary per arm (bounded outcomes only): at least one arm, names unique and non-empty.
+    ArmSummaries(Vec<ArmSummary>),
 }
 
 /// Inline counts of one arm.
@@ -236,6 +240,29 @@ pub struct ArmCounts {
     pub trials: u64,
     /// ≤ trials.
     pub events: u64,
+}
+
+/// n, mean and sample standard deviation of bounded values, in data units, as the spec gives
+/// them. Checked to be possible for n values inside `outcome.range`, up to the rounding of the
+/// digits written.
+#[derive(Debug, Clone, Copy, PartialEq, Serialize)]
+pub struct SummaryStats {
+    /// Number of values, ≥ 2.
+    pub n: u64,
+    /// Their mean, inside `outcome.range`.
+    pub mean: f64,
+    /// Their sample standard deviation (n − 1 in the denominator), finite and ≥ 0.
+    pub sd: f64,
+}
+
+/// A summary of one arm's bounded values.
+#[derive(Debug, Clone, PartialEq, Serialize)]
+pub struct ArmSummary {
+    /// Non-empty, unique among arms.
+    pub name: String,
+    /// n, mean and sd of this arm.
+    #[serde(flatten)]
+    pub summary: SummaryStats,
 }
 
 /// `dependence:` — how trials may depend on each other.

@@ -143,6 +143,9 @@ pub(crate) struct RawOutcome {
 pub(crate) struct RawData {
     pub trials: Option<u64>,
     pub events: Option<u64>,
+    pub n: Option<u64>,
+    pub mean: Option<f64>,
+    pub sd: Option<f64>,
     pub arms: Option<Vec<RawArm>>,
     pub file: Option<String>,
     pub column: Option<String>,
@@ -155,8 +158,13 @@ pub(crate) struct RawData {
 #[serde(deny_unknown_fields)]
 pub(crate) struct RawArm {
     pub name: String,
-    pub trials: u64,
-    pub events: u64,
+    // Either counts or a summary; which keys belong together is checked in `validate`, so that
+    // a mixed or half-written arm gets a message about the two forms, not a bare missing key.
+    pub trials: Option<u64>,
+    pub events: Option<u64>,
+    pub n: Option<u64>,
+    pub mean: Option<f64>,
+    pub sd: Option<f64>,
 }
 
 #[derive(Debug, Deserialize)]

@@ -45,6 +45,16 @@ impl Ctx<'_> {
         self.trace.contains_key(path)
     }
 
+    /// Half a unit in the last digit of the number written at `path`; 0 for a whole number
+    /// written without a decimal point or exponent.
+    fn half_unit(&self, path: &str) -> f64 {
+        match self.trace.get(path).and_then(|e| e.last_place) {
+            // Clamped: beyond ±400 the power is 0 or infinite in f64 anyway.
+            Some(place) => 0.5 * 10f64.powi(place.clamp(-400, 400) as i32),
+            None => 0.0,
+        }
+    }
+
     fn style(&self, path: &str) -> Style {
         self.trace
             .get(path)
@@ -121,7 +131,7 @@ pub(crate) fn build(raw: RawSpec, trace: &Trace, source: &str) -> Result<Spec, R
         limit: check_limit(&cx, raw_limit, &outcome)?,
         ..claim
     };
-    let data = data(&cx, raw.data)?;
+    let data = data(&cx, raw.data, &outcome)?;
     let dependence = dependence(&cx, raw.dependence, &data)?;
     let looks = looks(&cx, raw.looks)?;
     let method = method(&cx, raw.method)?;
@@ -307,39 +317,234 @@ fn counts(cx: &Ctx, base: &str, trials: u64, events: u64) -> Result<(), RawError
     Ok(())
 }
 
-fn data(cx: &Ctx, raw: RawData) -> Result<Data, RawError> {
-    let counts_given = cx.given("data.trials") || cx.given("data.events");
-    // Each form given, placed at its first key as written.
-    let mut forms: Vec<(Mark, &str, &str)> = Vec::new();
-    if counts_given {
-        let first = ["data.trials", "data.events"]
-            .into_iter()
-            .filter(|p| cx.given(p))
-            .min_by_key(|p| cx.key_at(p));
-        let path = first.unwrap_or("data.trials");
-        forms.push((
-            cx.key_at(path),
-            "inline counts (`trials` and `events`)",
-            path,
+/// How one group of data keys is written: inline counts or a summary of bounded values.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+enum Form {
+    Counts,
+    Summary,
+}
+
+impl Form {
+    const COUNT_KEYS: [&'static str; 2] = ["trials", "events"];
+    const SUMMARY_KEYS: [&'static str; 3] = ["n", "mean", "sd"];
+
+    fn keys(self) -> &'static [&'static str] {
+        match self {
+            Form::Counts => &Self::COUNT_KEYS,
+            Form::Summary => &Self::SUMMARY_KEYS,
+        }
+    }
+
+    fn words(self) -> &'static str {
+        match self {
+            Form::Counts => "inline counts (`trials` and `events`)",
+            Form::Summary => "a summary (`n`, `mean` and `sd`)",
+        }
+    }
+}
+
+/// Counts are for binary outcomes, summaries for bounded ones; said whenever the two meet.
+const COUNTS_OR_SUMMARY: &str = "counts (`trials`, `events`) describe a binary outcome and a summary (`n`, `mean`, `sd`) a bounded one: keep the form that matches outcome.type and remove the other";
+
+/// The first key of `form` written under `base`, by position in the file.
+fn first_key(cx: &Ctx, base: &str, form: Form) -> Option<String> {
+    form.keys()
+        .iter()
+        .map(|k| join_key(base, k))
+        .filter(|p| cx.given(p))
+        .min_by_key(|p| cx.key_at(p))
+}
+
+/// The value of a key that a form requires: refused when written empty or left out.
+fn required<T>(
+    cx: &Ctx,
+    base: &str,
+    key: &str,
+    value: Option<T>,
+    expected: &str,
+    why: &str,
+) -> Result<T, RawError> {
+    let path = join_key(base, key);
+    match value {
+        Some(v) => Ok(v),
+        None if cx.given(&path) => {
+            Err(cx.err(&path, format!("expected {expected}, found nothing")))
+        }
+        None => Err(cx.missing(base, key, why)),
+    }
+}
+
+/// Refuses a summary for an outcome that is not bounded, at the summary's first key.
+fn summary_needs_bounded(cx: &Ctx, base: &str, outcome: &Outcome) -> Result<(), RawError> {
+    if outcome.kind == OutcomeKind::Bounded {
+        return Ok(());
+    }
+    let path = first_key(cx, base, Form::Summary).unwrap_or_else(|| join_key(base, "n"));
+    Err(cx
+        .key_err(&path, "a summary (`n`, `mean`, `sd`) describes bounded values, but this outcome is binary")
+        .hint("for a binary outcome give `trials` and `events`; for measured values set outcome.type: bounded and declare its range"))
+}
+
+/// Checks n, mean and sd written under `base` against the declared range.
+fn summary(
+    cx: &Ctx,
+    base: &str,
+    n: Option<u64>,
+    mean: Option<f64>,
+    sd: Option<f64>,
+    range: (f64, f64),
+) -> Result<SummaryStats, RawError> {
+    const WHY: &str = "a summary needs `n`, `mean` and `sd`";
+    let sd_hint = "sd is the sample standard deviation (n − 1 in the denominator), in data units";
+    let n = required(cx, base, "n", n, "a whole number", WHY)?;
+    let mean = required(cx, base, "mean", mean, "a number", WHY)?;
+    let sd = required(cx, base, "sd", sd, "a number", WHY).map_err(|e| e.hint(sd_hint))?;
+    if n < 2 {
+        return Err(cx
+            .err(&join_key(base, "n"), format!("a summary needs n of at least 2, found {n}: a sample standard deviation takes two values or more"))
+            .hint("n is the number of values summarised"));
+    }
+    let (low, high) = range;
+    if mean < low || mean > high {
+        return Err(cx.err(
+            &join_key(base, "mean"),
+            format!("the mean must lie inside the outcome range [{low}, {high}], found {mean}"),
         ));
+    }
+    if sd < 0.0 {
+        return Err(cx
+            .err(
+                &join_key(base, "sd"),
+                format!("a standard deviation cannot be negative, found {sd}"),
+            )
+            .hint(sd_hint));
+    }
+    // Means and sds are usually written rounded: allow half a unit in the last digit written,
+    // so that a summary of values that do lie in the range is not refused for its rounding. A
+    // whole number written without a decimal point is taken as exact.
+    // The sd's own allowance is capped by the largest sd any mean allows, so that a number
+    // written with a large exponent (`1e300`) is not waved through as imprecise.
+    let m = cx.half_unit(&join_key(base, "mean"));
+    let widest = max_sample_sd(n, low, high, range);
+    let allowed = max_sample_sd(n, (mean - m).max(low), (mean + m).min(high), range)
+        + cx.half_unit(&join_key(base, "sd")).min(widest);
+    if sd > allowed {
+        let most = max_sample_sd(n, mean, mean, range);
+        let e = cx.err(
+            &join_key(base, "sd"),
+            format!(
+                "no {n} values in [{low}, {high}] with mean {mean} have a standard deviation of {sd}; the largest possible is {}",
+                significant(most, 6)
+            ),
+        );
+        // Far above the bound, yet its square root would fit: most likely the variance.
+        return Err(if sd > 1.0 && sd > 2.0 * allowed && sd.sqrt() <= allowed {
+            e.hint(format!(
+                "{sd} may be the variance; the standard deviation is its square root, {}",
+                significant(sd.sqrt(), 6)
+            ))
+        } else {
+            e.hint(format!(
+                "{sd_hint}; check that the values are in the units of the range"
+            ))
+        });
+    }
+    Ok(SummaryStats { n, mean, sd })
+}
+
+/// The largest sample standard deviation (n − 1 in the denominator) that n values in
+/// [low, high] can have when their mean lies in [mean_low, mean_high] ⊆ [low, high].
+///
+/// Derivation. Rescale to u = (x − low) / w with w = high − low, so u ∈ [0, 1], and let
+/// S = Σu = n·p, p the rescaled mean. Then (n − 1)·s² / w² = Σu² − S²/n, a convex function of
+/// u, so over the polytope {u ∈ [0, 1]ⁿ, Σu = S} its maximum is at a vertex. A vertex has at
+/// most one coordinate strictly between 0 and 1 (two free coordinates could move in opposite
+/// directions), so it is k = ⌊S⌋ ones, one value r = S − k and zeros, with
+/// Σu² = k + r². Hence
+///
+///   f(S) = k + r² − S²/n = S(n − S)/n − r(1 − r),   s_max = w·√(f(S) / (n − 1)).
+///
+/// The first term is the familiar bound n·p(1 − p)/(n − 1) on the variance; the second is what
+/// the one value in the middle costs, and vanishes when n·p is a whole number.
+///
+/// Over an interval of S: on each [j, j + 1], f is a quadratic in S with leading coefficient
+/// 1 − 1/n > 0, so its maximum is at an end of the piece; f(j) = j(n − j)/n is concave in j.
+/// The maximum over [S₁, S₂] is therefore at S₁, at S₂, or at the whole number in [S₁, S₂]
+/// nearest n/2.
+pub(crate) fn max_sample_sd(n: u64, mean_low: f64, mean_high: f64, range: (f64, f64)) -> f64 {
+    let (low, high) = range;
+    let w = high - low;
+    if n < 2 || w.is_nan() || w <= 0.0 {
+        return 0.0;
+    }
+    let nf = n as f64;
+    let total = |m: f64| (nf * ((m - low) / w)).clamp(0.0, nf);
+    let f = |s: f64| {
+        let r = s - s.floor();
+        (s * (1.0 - s / nf) - r * (1.0 - r)).max(0.0)
+    };
+    let (s1, s2) = (total(mean_low), total(mean_high));
+    let (s1, s2) = if s1 <= s2 { (s1, s2) } else { (s2, s1) };
+    let mut best = f(s1).max(f(s2));
+    let (first, last) = (s1.ceil(), s2.floor());
+    if first <= last {
+        let j = (nf / 2.0).floor().clamp(first, last);
+        for j in [j, (j + 1.0).min(last)] {
+            best = best.max(j * (1.0 - j / nf));
+        }
+    }
+    w * (best / (nf - 1.0)).sqrt()
+}
+
+/// `x` with `digits` significant digits, for messages.
+fn significant(x: f64, digits: usize) -> String {
+    if x == 0.0 || !x.is_finite() {
+        return format!("{x}");
+    }
+    let magnitude = x.abs().log10().floor() as i64;
+    let decimals = (digits as i64 - 1 - magnitude).clamp(0, 20) as usize;
+    let text = format!("{x:.decimals$}");
+    if text.contains('.') {
+        text.trim_end_matches('0').trim_end_matches('.').to_owned()
+    } else {
+        text
+    }
+}
+
+fn data(cx: &Ctx, raw: RawData, outcome: &Outcome) -> Result<Data, RawError> {
+    // Each form given, placed at its first key as written.
+    let mut forms: Vec<(Mark, &str, String)> = Vec::new();
+    for form in [Form::Counts, Form::Summary] {
+        if let Some(path) = first_key(cx, "data", form) {
+            forms.push((cx.key_at(&path), form.words(), path));
+        }
     }
     for (path, name) in [("data.arms", "`arms`"), ("data.file", "`file`")] {
         if cx.given(path) {
-            forms.push((cx.key_at(path), name, path));
+            forms.push((cx.key_at(path), name, path.to_owned()));
         }
     }
     forms.sort();
     match forms.as_slice() {
         [] => {
+            let example = match outcome.kind {
+                OutcomeKind::Binary => "for example `trials: 4600` and `events: 12`",
+                OutcomeKind::Bounded => {
+                    "for example `file: values.csv`, or the summary `n: 400`, `mean: 1.12` and `sd: 0.21`"
+                }
+            };
             return Err(cx
                 .err(
                     "data",
-                    "`data` must give exactly one of: `trials` and `events`, `arms`, or `file`",
+                    "`data` must give exactly one of: `trials` and `events`, `arms`, `file`, or a summary `n`, `mean` and `sd`",
                 )
-                .hint("for example `trials: 4600` and `events: 12`"));
+                .hint(example));
         }
         [_] => {}
         [(_, first, _), (_, second, path), ..] => {
+            let counts_and_summary = [first, second]
+                .iter()
+                .all(|w| **w == Form::Counts.words() || **w == Form::Summary.words());
             return Err(cx
                 .key_err(
                     path,
@@ -347,71 +552,25 @@ fn data(cx: &Ctx, raw: RawData) -> Result<Data, RawError> {
                         "`data` gives both {first} and {second}; it must give exactly one form"
                     ),
                 )
-                .hint("keep the form that holds the data of this study and remove the other"));
+                .hint(if counts_and_summary {
+                    COUNTS_OR_SUMMARY
+                } else {
+                    "keep the form that holds the data of this study and remove the other"
+                }));
         }
     }
-    let source = if counts_given {
-        let trials = match raw.trials {
-            Some(t) => t,
-            None if cx.given("data.trials") => {
-                return Err(cx.err("data.trials", "expected a whole number, found nothing"));
-            }
-            None => {
-                return Err(cx.missing(
-                    "data",
-                    "trials",
-                    "inline counts need both `trials` and `events`",
-                ));
-            }
-        };
-        let events = match raw.events {
-            Some(e) => e,
-            None if cx.given("data.events") => {
-                return Err(cx.err("data.events", "expected a whole number, found nothing"));
-            }
-            None => {
-                return Err(cx.missing(
-                    "data",
-                    "events",
-                    "inline counts need both `trials` and `events`",
-                ));
-            }
-        };
+    let source = if first_key(cx, "data", Form::Counts).is_some() {
+        const WHY: &str = "inline counts need both `trials` and `events`";
+        let trials = required(cx, "data", "trials", raw.trials, "a whole number", WHY)?;
+        let events = required(cx, "data", "events", raw.events, "a whole number", WHY)?;
         counts(cx, "data", trials, events)?;
         DataSource::Counts { trials, events }
+    } else if first_key(cx, "data", Form::Summary).is_some() {
+        summary_needs_bounded(cx, "data", outcome)?;
+        let range = outcome.range.unwrap_or((0.0, 1.0));
+        DataSource::Summary(summary(cx, "data", raw.n, raw.mean, raw.sd, range)?)
     } else if cx.given("data.arms") {
-        let arms = raw.arms.unwrap_or_default();
-        if arms.is_empty() {
-            return Err(cx
-                .err("data.arms", "`arms` must list at least one arm")
-                .hint("for example arms: [{name: A, trials: 100, events: 1}]"));
-        }
-        let mut seen: BTreeMap<String, usize> = BTreeMap::new();
-        let mut out = Vec::with_capacity(arms.len());
-        for (i, arm) in arms.into_iter().enumerate() {
-            let base = join_index("data.arms", i);
-            let name_path = join_key(&base, "name");
-            let name = cx.required_text(&name_path, arm.name)?;
-            if let Some(first) = seen.get(&name) {
-                return Err(cx
-                    .err(
-                        &name_path,
-                        format!(
-                            "arm name `{}` is already used by data.arms[{first}]",
-                            shorten(&name)
-                        ),
-                    )
-                    .hint("each arm needs its own name"));
-            }
-            seen.insert(name.clone(), i);
-            counts(cx, &base, arm.trials, arm.events)?;
-            out.push(ArmCounts {
-                name,
-                trials: arm.trials,
-                events: arm.events,
-            });
-        }
-        DataSource::Arms(out)
+        arms(cx, raw.arms.unwrap_or_default(), outcome)?
     } else {
         let file = match raw.file {
             Some(f) => cx.required_text("data.file", f)?,
@@ -433,7 +592,7 @@ fn data(cx: &Ctx, raw: RawData) -> Result<Data, RawError> {
                         &path,
                         format!("`{key}` applies only to data read from a `file`"),
                     )
-                    .hint("inline counts need no columns; remove it"));
+                    .hint("inline counts and summaries need no columns; remove it"));
             }
         }
     }
@@ -448,6 +607,104 @@ fn data(cx: &Ctx, raw: RawData) -> Result<Data, RawError> {
         cluster_column: column("cluster_column", raw.cluster_column)?,
         order_column: column("order_column", raw.order_column)?,
         source,
+    })
+}
+
+/// `data.arms`: every arm written in one form, counts or summary.
+fn arms(cx: &Ctx, arms: Vec<RawArm>, outcome: &Outcome) -> Result<DataSource, RawError> {
+    let example = match outcome.kind {
+        OutcomeKind::Binary => "for example arms: [{name: A, trials: 100, events: 1}]",
+        OutcomeKind::Bounded => "for example arms: [{name: A, n: 40, mean: 1.2, sd: 0.3}]",
+    };
+    if arms.is_empty() {
+        return Err(cx
+            .err("data.arms", "`arms` must list at least one arm")
+            .hint(example));
+    }
+    let mut seen: BTreeMap<String, usize> = BTreeMap::new();
+    let mut counted = Vec::new();
+    let mut summarised = Vec::new();
+    let mut first_form = None;
+    for (i, arm) in arms.into_iter().enumerate() {
+        let base = join_index("data.arms", i);
+        let name_path = join_key(&base, "name");
+        let name = cx.required_text(&name_path, arm.name)?;
+        if let Some(first) = seen.get(&name) {
+            return Err(cx
+                .err(
+                    &name_path,
+                    format!(
+                        "arm name `{}` is already used by data.arms[{first}]",
+                        shorten(&name)
+                    ),
+                )
+                .hint("each arm needs its own name"));
+        }
+        seen.insert(name.clone(), i);
+        let counts_at = first_key(cx, &base, Form::Counts);
+        let summary_at = first_key(cx, &base, Form::Summary);
+        let form = match (&counts_at, &summary_at) {
+            (Some(c), Some(s)) => {
+                let later = if cx.key_at(c) > cx.key_at(s) { c } else { s };
+                return Err(cx
+                    .key_err(later, "this arm gives both counts (`trials`, `events`) and a summary (`n`, `mean`, `sd`); an arm gives one of them")
+                    .hint(COUNTS_OR_SUMMARY));
+            }
+            (None, Some(_)) => Form::Summary,
+            (Some(_), None) => Form::Counts,
+            (None, None) => {
+                return Err(match outcome.kind {
+                    OutcomeKind::Binary => cx
+                        .missing(&base, "trials", "each arm gives `trials` and `events`")
+                        .hint("each arm is written {name: A, trials: 100, events: 1}"),
+                    OutcomeKind::Bounded => cx
+                        .missing(
+                            &base,
+                            "n",
+                            "each arm gives `n`, `mean` and `sd` (or `trials` and `events`)",
+                        )
+                        .hint("each arm is written {name: A, n: 40, mean: 1.2, sd: 0.3}"),
+                });
+            }
+        };
+        if form == Form::Summary {
+            summary_needs_bounded(cx, &base, outcome)?;
+        }
+        match first_form {
+            None => first_form = Some(form),
+            Some(f) if f != form => {
+                let at = counts_at.or(summary_at).unwrap_or_else(|| base.clone());
+                return Err(cx
+                    .key_err(&at, format!("data.arms[0] gives {} but this arm gives {}; all arms are given the same way", f.words(), form.words()))
+                    .hint(COUNTS_OR_SUMMARY));
+            }
+            Some(_) => {}
+        }
+        match form {
+            Form::Counts => {
+                const WHY: &str = "inline counts need both `trials` and `events`";
+                let hint = "each arm is written {name: A, trials: 100, events: 1}";
+                let trials = required(cx, &base, "trials", arm.trials, "a whole number", WHY)
+                    .map_err(|e| e.hint(hint))?;
+                let events = required(cx, &base, "events", arm.events, "a whole number", WHY)
+                    .map_err(|e| e.hint(hint))?;
+                counts(cx, &base, trials, events)?;
+                counted.push(ArmCounts {
+                    name,
+                    trials,
+                    events,
+                });
+            }
+            Form::Summary => {
+                let range = outcome.range.unwrap_or((0.0, 1.0));
+                let summary = summary(cx, &base, arm.n, arm.mean, arm.sd, range)?;
+                summarised.push(ArmSummary { name, summary });
+            }
+        }
+    }
+    Ok(match first_form {
+        Some(Form::Summary) => DataSource::ArmSummaries(summarised),
+        _ => DataSource::Arms(counted),
     })
 }
 
@@ -808,4 +1065,96 @@ fn report(cx: &Ctx, raw: Option<RawReport>) -> Result<ReportOptions, RawError> {
         template,
         embed_data,
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::max_sample_sd;
+
+    fn at(n: u64, mean: f64, range: (f64, f64)) -> f64 {
+        max_sample_sd(n, mean, mean, range)
+    }
+
+    #[test]
+    fn closed_forms() {
+        // Two values at the ends of [0, 1]: s² = 2·(½)² / 1 (arithmetic).
+        assert!((at(2, 0.5, (0.0, 1.0)) - 0.5f64.sqrt()).abs() < 1e-15);
+        // k ones among n 0/1 values: s² = k(n − k) / (n(n − 1)) (textbook identity for binary
+        // data, common practice); n = 10, k = 3 gives 21/90.
+        assert!((at(10, 0.3, (0.0, 1.0)) - (21.0f64 / 90.0).sqrt()).abs() < 1e-15);
+        // {6, 2, 2, 2} in [2, 6]: mean 3, squared deviations 9 + 1 + 1 + 1 = 12, s² = 4
+        // (hand arithmetic).
+        assert!((at(4, 3.0, (2.0, 6.0)) - 2.0).abs() < 1e-14);
+        // n = 3, mean ½ in [0, 1]: the extreme set is {0, ½, 1}, s² = (¼ + 0 + ¼)/2 = ¼ (hand
+        // arithmetic), below n·p(1 − p)/(n − 1) = 0.375, the bound without the middle value.
+        assert!((at(3, 0.5, (0.0, 1.0)) - 0.5).abs() < 1e-15);
+        // A mean at an end of the range leaves no spread (all values equal that end).
+        assert_eq!(at(50, 0.0, (0.0, 1.0)), 0.0);
+        assert_eq!(at(50, 2.5, (0.0, 2.5)), 0.0);
+    }
+
+    /// Brute force: every n-tuple on a grid of step 1/g in [0, 1]. The extreme configuration
+    /// (ones, one remainder, zeros) lies on the grid whenever the sum does, so the largest
+    /// grid variance for each sum is the true maximum there.
+    #[test]
+    fn matches_brute_force_on_a_grid() {
+        for (n, g) in [(2usize, 40u32), (3, 20), (4, 10), (5, 6)] {
+            let points = g as usize + 1;
+            let mut best = vec![0.0f64; n * g as usize + 1];
+            let mut idx = vec![0usize; n];
+            loop {
+                let xs: Vec<f64> = idx.iter().map(|&i| i as f64 / f64::from(g)).collect();
+                let sum: usize = idx.iter().sum();
+                let mean = xs.iter().sum::<f64>() / n as f64;
+                let ss: f64 = xs.iter().map(|x| (x - mean) * (x - mean)).sum();
+                let s = (ss / (n as f64 - 1.0)).sqrt();
+                best[sum] = best[sum].max(s);
+                let mut k = 0;
+                while k < n {
+                    idx[k] += 1;
+                    if idx[k] < points {
+                        break;
+                    }
+                    idx[k] = 0;
+                    k += 1;
+                }
+                if k == n {
+                    break;
+                }
+            }
+            for (sum, &b) in best.iter().enumerate() {
+                let mean = sum as f64 / (n as f64 * f64::from(g));
+                let formula = at(n as u64, mean, (0.0, 1.0));
+                assert!(
+                    (formula - b).abs() < 1e-12,
+                    "n={n} mean={mean}: {formula} vs {b}"
+                );
+            }
+        }
+    }
+
+    /// Over an interval of means the bound is the largest of the pointwise bounds.
+    #[test]
+    fn interval_is_the_pointwise_maximum() {
+        for (n, lo, hi) in [
+            (7u64, 0.31, 0.39),
+            (7, 0.40, 0.62),
+            (1000, 0.0, 0.0013),
+            (2, 0.1, 0.9),
+        ] {
+            let over = max_sample_sd(n, lo, hi, (0.0, 1.0));
+            let mut sampled = 0.0f64;
+            for i in 0..=20_000 {
+                let m = lo + (hi - lo) * f64::from(i) / 20_000.0;
+                sampled = sampled.max(at(n, m, (0.0, 1.0)));
+            }
+            assert!(over >= sampled - 1e-15, "n={n}: {over} < {sampled}");
+            // f has a kink of slope about −1 (in S) at each whole S, which a grid of means
+            // misses by up to a step: hence the loose upper tolerance.
+            assert!(
+                over <= sampled * (1.0 + 1e-4),
+                "n={n}: {over} far above {sampled}"
+            );
+        }
+    }
 }

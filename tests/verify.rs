@@ -1,0 +1,158 @@
+//! `surety verify` and reproducibility: untouched reports verify; each kind of tampering is
+//! named with exit 3; the same inputs give the same bytes in another folder, time zone and
+//! locale. The expected outcomes follow from the contract in DESIGN.md §4 and §10 (exit codes,
+//! byte-identical outputs), not from recorded values.
+
+use sha2::{Digest, Sha256};
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
+fn surety() -> Command {
+    let mut cmd = Command::new(env!("CARGO_BIN_EXE_surety"));
+    cmd.env_remove("SOURCE_DATE_EPOCH");
+    cmd
+}
+
+fn examples() -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR")).join("examples")
+}
+
+/// Copy an example folder into a fresh temporary folder and run it there.
+fn run_copy(name: &str) -> (tempfile::TempDir, PathBuf) {
+    let dir = tempfile::tempdir().unwrap();
+    let to = dir.path().join(name);
+    copy_dir(&examples().join(name), &to);
+    let o = surety()
+        .args(["run", "study.yaml"])
+        .current_dir(&to)
+        .output()
+        .unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    (dir, to)
+}
+
+fn copy_dir(from: &Path, to: &Path) {
+    std::fs::create_dir_all(to).unwrap();
+    for entry in std::fs::read_dir(from).unwrap() {
+        let entry = entry.unwrap();
+        let target = to.join(entry.file_name());
+        if entry.file_type().unwrap().is_dir() {
+            if entry.file_name() != "study-report" {
+                copy_dir(&entry.path(), &target);
+            }
+        } else {
+            std::fs::copy(entry.path(), target).unwrap();
+        }
+    }
+}
+
+fn verify(file: &Path, extra: &[&str]) -> Output {
+    surety()
+        .arg("verify")
+        .arg(file)
+        .args(extra)
+        .output()
+        .unwrap()
+}
+
+fn stdout(o: &Output) -> String {
+    String::from_utf8_lossy(&o.stdout).into_owned()
+}
+
+fn sha(path: &Path) -> String {
+    let bytes = std::fs::read(path).unwrap();
+    format!("{:x}", Sha256::digest(bytes))
+}
+
+#[test]
+fn untouched_reports_and_results_verify() {
+    for name in ["release-signoff", "lot-comparison", "zero-failure-demo"] {
+        let (_keep, dir) = run_copy(name);
+        for file in ["report.pdf", "results.json"] {
+            let o = verify(&dir.join("study-report").join(file), &[]);
+            let text = stdout(&o);
+            assert_eq!(o.status.code(), Some(0), "{name} {file}:\n{text}");
+            assert!(text.contains("checks agree"), "{text}");
+            assert!(!text.contains("MISMATCH"), "{text}");
+        }
+        let text = stdout(&verify(&dir.join("study-report/report.pdf"), &[]));
+        assert!(text.contains("re-renders byte for byte"), "{text}");
+    }
+}
+
+#[test]
+fn an_edited_spec_is_named() {
+    let (_keep, dir) = run_copy("release-signoff");
+    let spec = dir.join("study.yaml");
+    let text = std::fs::read_to_string(&spec).unwrap();
+    std::fs::write(&spec, text.replace("events: 1", "events: 0")).unwrap();
+    let o = verify(&dir.join("study-report/results.json"), &[]);
+    let out = stdout(&o);
+    assert_eq!(o.status.code(), Some(3), "{out}");
+    assert!(out.contains("the spec was edited"), "{out}");
+    assert!(out.contains("arms[0].events"), "{out}");
+}
+
+#[test]
+fn an_edited_results_file_is_named() {
+    let (_keep, dir) = run_copy("release-signoff");
+    let path = dir.join("study-report/results.json");
+    let mut r: serde_json::Value = serde_json::from_slice(&std::fs::read(&path).unwrap()).unwrap();
+    r["arms"][0]["primary"]["upper"] = serde_json::json!(0.001);
+    std::fs::write(&path, serde_json::to_vec_pretty(&r).unwrap()).unwrap();
+    let o = verify(&path, &[]);
+    let out = stdout(&o);
+    assert_eq!(o.status.code(), Some(3), "{out}");
+    assert!(out.contains("the results were edited"), "{out}");
+    assert!(
+        out.contains("arms[0].primary.upper: recorded 0.001"),
+        "{out}"
+    );
+}
+
+#[test]
+fn a_truncated_or_altered_pdf_fails() {
+    let (_keep, dir) = run_copy("release-signoff");
+    let pdf = dir.join("study-report/report.pdf");
+    let bytes = std::fs::read(&pdf).unwrap();
+    for keep in [bytes.len() / 2, bytes.len() - 200, 1000] {
+        let cut = dir.join(format!("cut-{keep}.pdf"));
+        std::fs::write(&cut, &bytes[..keep]).unwrap();
+        let o = verify(&cut, &[]);
+        assert_eq!(o.status.code(), Some(3), "cut at {keep}: {}", stdout(&o));
+        assert!(stdout(&o).contains("MISMATCH"));
+    }
+}
+
+#[test]
+fn a_missing_file_is_bad_input() {
+    let o = verify(Path::new("no-such-report.pdf"), &[]);
+    assert_eq!(o.status.code(), Some(2));
+}
+
+/// DESIGN.md §10: same spec, inputs and version give the same bytes, wherever and whenever.
+#[test]
+fn outputs_do_not_depend_on_folder_time_zone_or_locale() {
+    let (_a, first) = run_copy("lot-comparison");
+    let other = tempfile::tempdir().unwrap();
+    let second = other.path().join("deeper/elsewhere");
+    copy_dir(&examples().join("lot-comparison"), &second);
+    let out = other.path().join("out");
+    let o = surety()
+        .args(["run", second.join("study.yaml").to_str().unwrap(), "--out"])
+        .arg(&out)
+        .current_dir(other.path())
+        .env("TZ", "Pacific/Kiritimati")
+        .env("LC_ALL", "de_DE.UTF-8")
+        .env("LANG", "de_DE.UTF-8")
+        .output()
+        .unwrap();
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    for file in ["results.json", "report.pdf"] {
+        assert_eq!(
+            sha(&first.join("study-report").join(file)),
+            sha(&out.join(file)),
+            "{file} differs"
+        );
+    }
+}
