@@ -591,8 +591,8 @@ pub fn cautions() -> Vec<String> {
     [
         "The guarantee holds only if every assumption in the checklist holds, and only for \
          the population and conditions the trials represent.",
-        "A pass bounds the rate at the stated confidence; it does not show that the rate is \
-         zero, nor that untested designs, lots or conditions behave alike.",
+        "A pass bounds the rate or mean at the stated confidence; it does not show that no \
+         failure can occur, nor that untested designs, lots or conditions behave alike.",
         "Each analysis of the same study is a look. Re-running a fixed-sample-size bound as \
          trials accumulate, and stopping when it passes, raises the false-pass risk above δ.",
         "surety computes statistical bounds. It does not replace the applicable regulations \
@@ -730,7 +730,13 @@ fn statement(
     }
 }
 
-fn decision_rule(claim: &ClaimInfo, side: Side, primary: &Method, per_bound: f64) -> DecisionRule {
+fn decision_rule(
+    claim: &ClaimInfo,
+    side: Side,
+    primary: &Method,
+    per_bound: f64,
+    word: &str,
+) -> DecisionRule {
     let conf = &claim.display.confidence;
     let limit = &claim.display.limit;
     let text = match side {
@@ -754,11 +760,12 @@ fn decision_rule(claim: &ClaimInfo, side: Side, primary: &Method, per_bound: f64
     DecisionRule {
         text,
         false_accept_risk: claim.delta,
-        false_reject_note: "The rule caps the chance of a false pass at δ whatever the true \
-                            rate. The chance of not passing when the true rate is below the \
-                            limit is not capped: it shrinks as the true rate moves away from \
-                            the limit and as the number of trials grows."
-            .to_string(),
+        false_reject_note: format!(
+            "The rule caps the chance of a false pass at δ whatever the true {w}. The chance of \
+             not passing when the true {w} is on the good side of the limit is not capped: it \
+             shrinks as the true {w} moves away from the limit and as the number of trials grows.",
+            w = word
+        ),
     }
 }
 
@@ -999,7 +1006,7 @@ pub fn analyse(spec: &Spec, data: &Dataset, ctx: &Context) -> Result<Analysis, S
         if arm.primary.vacuous {
             warnings.push(format!(
                 "{prefix}the primary bound is vacuous (it spans the whole range): these data \
-                 say nothing about the rate at this confidence"
+                 say nothing at this confidence"
             ));
         }
         if arm.verdict == Verdict::Inconclusive
@@ -1044,7 +1051,17 @@ pub fn analyse(spec: &Spec, data: &Dataset, ctx: &Context) -> Result<Analysis, S
         selected,
         overall,
     );
-    let decision_rule = decision_rule(&claim, side, selection.primary, per_bound);
+    let decision_rule = decision_rule(
+        &claim,
+        side,
+        selection.primary,
+        per_bound,
+        if scale.range.is_some() {
+            "mean"
+        } else {
+            "rate"
+        },
+    );
     let study = &spec.study;
     Ok(Analysis {
         format: RESULTS_FORMAT.to_string(),
