@@ -11,6 +11,8 @@ use std::fmt;
 pub enum Error {
     /// The spec is invalid or asks for something this version cannot do (located).
     Spec(SpecError),
+    /// A data file holds something the spec does not allow (located in the file).
+    Data(crate::data::DataError),
     /// SOURCE_DATE_EPOCH is malformed.
     Date(BadSourceDateEpoch),
     /// A command-line argument is unusable.
@@ -33,7 +35,11 @@ impl Error {
     /// Process exit code for this error.
     pub fn exit_code(&self) -> i32 {
         match self {
-            Error::Spec(_) | Error::Date(_) | Error::Usage(_) | Error::Read { .. } => 2,
+            Error::Spec(_)
+            | Error::Data(_)
+            | Error::Date(_)
+            | Error::Usage(_)
+            | Error::Read { .. } => 2,
             Error::Write { .. } => 2,
             Error::Report(e) if e.is_user_error() => 2,
             Error::Report(_) => 4,
@@ -45,6 +51,7 @@ impl fmt::Display for Error {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         match self {
             Error::Spec(e) => write!(f, "{e}"),
+            Error::Data(e) => write!(f, "{e}"),
             Error::Date(e) => write!(f, "{e}"),
             Error::Usage(m) => write!(f, "{m}"),
             Error::Read { path, source } => write!(f, "cannot read {path}: {source}"),

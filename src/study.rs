@@ -100,7 +100,11 @@ pub enum DateRule {
 }
 
 /// Load, validate and analyse the study at `path`.
-pub fn prepare(path: &Path, env: &Environment) -> Result<Prepared, Error> {
+pub fn prepare(
+    path: &Path,
+    env: &Environment,
+    progress: &mut dyn FnMut(u64, u64),
+) -> Result<Prepared, Error> {
     let (spec, spec_bytes) = load_spec(path)?;
     let spec_name = path
         .file_name()
@@ -114,6 +118,7 @@ pub fn prepare(path: &Path, env: &Environment) -> Result<Prepared, Error> {
         &spec_name,
         &base,
         &DateRule::Resolve(env.clone()),
+        progress,
     )
 }
 
@@ -126,6 +131,7 @@ pub fn analyse_loaded(
     spec_name: &str,
     base: &Path,
     date_rule: &DateRule,
+    progress: &mut dyn FnMut(u64, u64),
 ) -> Result<Prepared, Error> {
     let template = match &spec.report.template {
         None => None,
@@ -158,7 +164,7 @@ pub fn analyse_loaded(
         template_sha256: report::template_sha256(template_text),
         fonts_sha256: report::fonts_sha256(),
     };
-    let data = load_data(&spec, base)?;
+    let data = load_data(&spec, base, progress)?;
     let analysis = analysis::analyse(&spec, &data, &ctx)?;
     let embedded = embedded_data(&spec, base, &data)?;
     Ok(Prepared {
@@ -209,17 +215,34 @@ fn embedded_data(
 }
 
 /// The study's data: inline in the spec, or read from the file it names (relative to `base`).
-fn load_data(spec: &Spec, base: &Path) -> Result<crate::data::Dataset, Error> {
-    match crate::data::inline(spec) {
-        Some(d) => Ok(d),
-        None => {
-            let _ = base;
-            Err(Error::Spec(spec.error_at(
-                "data.file",
-                "reading trials from a data file is not supported yet",
-                None,
-            )))
-        }
+/// The ordered stream of values is kept only when a selected method needs it.
+fn load_data(
+    spec: &Spec,
+    base: &Path,
+    progress: &mut dyn FnMut(u64, u64),
+) -> Result<crate::data::Dataset, Error> {
+    if let Some(d) = crate::data::inline(spec) {
+        return Ok(d);
+    }
+    if spec.data.column.is_none() {
+        return Err(Error::Spec(spec.error_at(
+            "data.file",
+            "a data file needs `data.column`, the column holding each trial's outcome",
+            Some("for example column: drop_m".to_string()),
+        )));
+    }
+    let keep = analysis::select_methods(spec)
+        .map(|s| {
+            std::iter::once(s.primary).chain(s.compare).any(|m| {
+                m.bounded
+                    .is_some_and(|b| b.needs == crate::bounds::Needs::Observations)
+            })
+        })
+        .unwrap_or(false);
+    match crate::data::read(spec, base, keep, progress) {
+        Some(Ok(d)) => Ok(d),
+        Some(Err(e)) => Err(Error::Data(e)),
+        None => Ok(crate::data::Dataset::default()),
     }
 }
 
@@ -243,6 +266,8 @@ pub fn render(prepared: &mut Prepared) -> Result<Artifacts, Error> {
 pub struct Planned {
     /// The validated spec.
     pub spec: Spec,
+    /// The spec's bytes, exactly as read (attached to the plan report).
+    pub spec_bytes: Vec<u8>,
     /// The plan.
     pub plan: crate::plan::PlanResults,
     /// SHA-256 of the claim and plan sections, to be kept as `plan.registered`.
@@ -251,14 +276,15 @@ pub struct Planned {
 
 /// Load a spec and plan its study; data already collected (inline or in its file) feed the
 /// trials still needed.
-pub fn plan(path: &Path) -> Result<Planned, Error> {
-    let (spec, _) = load_spec(path)?;
+pub fn plan(path: &Path, progress: &mut dyn FnMut(u64, u64)) -> Result<Planned, Error> {
+    let (spec, spec_bytes) = load_spec(path)?;
     let base = path.parent().unwrap_or_else(|| Path::new("")).to_path_buf();
-    let data = load_data(&spec, &base)?;
+    let data = load_data(&spec, &base, progress)?;
     let plan = crate::plan::from_spec::plan(&spec, Some(&data))?;
     let criteria_sha256 = provenance::criteria_sha256(&spec);
     Ok(Planned {
         spec,
+        spec_bytes,
         plan,
         criteria_sha256,
     })

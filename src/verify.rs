@@ -51,6 +51,9 @@ impl Verification {
 
 /// Where the inputs of a recorded result are looked for.
 struct Sources {
+    /// The folder given with `--data-dir`: searched first, so that the files there are the ones
+    /// checked even when the report carries copies.
+    preferred: Option<PathBuf>,
     /// Files attached to the PDF (name, bytes).
     attached: Vec<(String, Vec<u8>)>,
     /// Folders searched, in order, for files not attached.
@@ -64,6 +67,12 @@ impl Sources {
             .file_name()
             .map(|n| n.to_string_lossy().to_string())
             .unwrap_or_else(|| path.to_string());
+        if let Some(dir) = &self.preferred {
+            let candidate = dir.join(path);
+            if let Ok(bytes) = fs::read(&candidate) {
+                return Some((bytes, candidate.display().to_string()));
+            }
+        }
         if let Some((_, bytes)) = self.attached.iter().find(|(n, _)| *n == name) {
             return Some((bytes.clone(), "attached to the report".to_string()));
         }
@@ -81,8 +90,9 @@ fn short(hash: &str) -> &str {
     hash.get(..12).unwrap_or(hash)
 }
 
-/// Verify `file` (a report.pdf or a results.json). `data_dir` is searched first for the spec
-/// and data files that are not attached; otherwise the file's folder and its parent are.
+/// Verify `file` (a report.pdf or a results.json). The spec and data files are looked for in
+/// `data_dir` first, then among the report's attachments, then in the file's folder and its
+/// parent.
 ///
 /// Returns `Err` only when `file` itself cannot be read; every other problem is a failed check.
 pub fn verify(file: &Path, data_dir: Option<&Path>) -> Result<Verification, Error> {
@@ -91,7 +101,7 @@ pub fn verify(file: &Path, data_dir: Option<&Path>) -> Result<Verification, Erro
         source,
     })?;
     let mut v = Verification::default();
-    let mut dirs: Vec<PathBuf> = data_dir.map(Path::to_path_buf).into_iter().collect();
+    let mut dirs: Vec<PathBuf> = Vec::new();
     let folder = file.parent().unwrap_or_else(|| Path::new("")).to_path_buf();
     dirs.push(folder.clone());
     if let Some(parent) = folder.parent() {
@@ -128,7 +138,11 @@ pub fn verify(file: &Path, data_dir: Option<&Path>) -> Result<Verification, Erro
     } else {
         (bytes.clone(), Vec::new())
     };
-    let sources = Sources { attached, dirs };
+    let sources = Sources {
+        preferred: data_dir.map(Path::to_path_buf),
+        attached,
+        dirs,
+    };
 
     let recorded: Analysis = match serde_json::from_slice(&results_bytes) {
         Ok(a) => a,
@@ -365,6 +379,7 @@ fn recompute(
             &spec_name,
             &base,
             &DateRule::Fixed(date),
+            &mut |_, _| {},
         )?;
         study::render(&mut prepared)
     })();

@@ -44,7 +44,12 @@ fn rel(a: f64, b: f64) -> f64 {
     ((a - b) / b).abs()
 }
 
-const EXAMPLES: &[&str] = &["release-signoff", "lot-comparison", "zero-failure-demo"];
+const EXAMPLES: &[&str] = &[
+    "release-signoff",
+    "lot-comparison",
+    "zero-failure-demo",
+    "dock-approach",
+];
 
 #[test]
 fn every_example_runs_and_writes_both_files() {
@@ -499,4 +504,51 @@ fn a_plan_that_cannot_reach_its_target_says_why() {
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
     let text = String::from_utf8_lossy(&o.stdout);
     assert!(text.contains("no sample size reaches the target"), "{text}");
+}
+
+// The bounded example: mean and Hoeffding bound recomputed from the data file with Python
+// (`csv` + `math.fsum`: mean 0.29615824999999996 over 240,000 rows; Hoeffding
+// 0.29615825 + 2.5·sqrt(ln 20 / 480000) = 0.3024038028694611).
+#[test]
+fn bounded_example_shows_every_method_side_by_side() {
+    let (o, out) = run_example("dock-approach", &[]);
+    assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
+    let r = results(out.path());
+    assert_eq!(r["outcome"]["type"], "bounded");
+    let arm = &r["arms"][0];
+    assert_eq!(arm["n"], 240_000);
+    assert!(rel(arm["mean"].as_f64().unwrap(), 0.29615824999999996) < 1e-12);
+    assert_eq!(arm["primary"]["method"], "betting");
+    let compare: Vec<&str> = arm["compare"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|c| c["method"].as_str().unwrap())
+        .collect();
+    for m in [
+        "chernoff-kl",
+        "hoeffding",
+        "bernstein-empirical",
+        "bernstein-unexpected",
+        "split-kl",
+    ] {
+        assert!(compare.contains(&m), "{m} missing from {compare:?}");
+    }
+    let hoeffding = arm["compare"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|c| c["method"] == "hoeffding")
+        .unwrap();
+    let h = hoeffding["upper"].as_f64().unwrap();
+    assert!(
+        h >= 0.3024038028694611 && rel(h, 0.3024038028694611) < 1e-12,
+        "{h}"
+    );
+    // The variance-adaptive primary passes where Hoeffding cannot.
+    assert_eq!(arm["verdict"], "pass");
+    assert!(arm["primary"]["upper"].as_f64().unwrap() < 0.30);
+    let inputs = &r["provenance"]["inputs"][0];
+    assert_eq!(inputs["path"], "approach-errors.csv");
+    assert_eq!(inputs["rows"], 240_000);
 }

@@ -66,7 +66,12 @@ fn sha(path: &Path) -> String {
 
 #[test]
 fn untouched_reports_and_results_verify() {
-    for name in ["release-signoff", "lot-comparison", "zero-failure-demo"] {
+    for name in [
+        "release-signoff",
+        "lot-comparison",
+        "zero-failure-demo",
+        "dock-approach",
+    ] {
         let (_keep, dir) = run_copy(name);
         for file in ["report.pdf", "results.json"] {
             let o = verify(&dir.join("study-report").join(file), &[]);
@@ -155,4 +160,36 @@ fn outputs_do_not_depend_on_folder_time_zone_or_locale() {
             "{file} differs"
         );
     }
+}
+
+/// A data file with one changed value no longer matches the digest recorded in the report.
+#[test]
+fn a_changed_data_value_is_named() {
+    let (_keep, dir) = run_copy("dock-approach");
+    let csv = dir.join("approach-errors.csv");
+    let text = std::fs::read_to_string(&csv).unwrap();
+    let mut lines: Vec<&str> = text.lines().collect();
+    let changed = if lines[10] == "0.500" {
+        "0.501"
+    } else {
+        "0.500"
+    };
+    lines[10] = changed;
+    std::fs::write(&csv, lines.join("\n") + "\n").unwrap();
+    // results.json is checked against the files beside the spec.
+    let o = verify(&dir.join("study-report/results.json"), &[]);
+    let out = stdout(&o);
+    assert_eq!(o.status.code(), Some(3), "{out}");
+    assert!(out.contains("approach-errors.csv"), "{out}");
+    assert!(out.contains("the data changed"), "{out}");
+    // The report carries its own copy of the data, so it still verifies on its own ...
+    let o = verify(&dir.join("study-report/report.pdf"), &[]);
+    assert_eq!(o.status.code(), Some(0), "{}", stdout(&o));
+    // ... while --data-dir checks the files in that folder instead.
+    let o = verify(
+        &dir.join("study-report/report.pdf"),
+        &["--data-dir", dir.to_str().unwrap()],
+    );
+    assert_eq!(o.status.code(), Some(3), "{}", stdout(&o));
+    assert!(stdout(&o).contains("the data changed"));
 }

@@ -14,7 +14,12 @@ pub struct Args {
 
 /// Validate and summarise.
 pub fn run(args: Args) -> Result<i32, Error> {
-    let prepared = study::prepare(&args.spec, &super::environment())?;
+    let mut bar = super::progress::ProgressBar::new("reading the data");
+    let prepared = study::prepare(&args.spec, &super::environment(), &mut |d, t| {
+        bar.update(d, t)
+    });
+    bar.finish();
+    let prepared = prepared?;
     let a = &prepared.analysis;
     let mut out = String::new();
     let _ = writeln!(out, "{}: the spec is valid", args.spec.display());

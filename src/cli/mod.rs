@@ -6,6 +6,7 @@ pub mod completions;
 pub mod init;
 pub mod methods;
 pub mod plan;
+pub mod progress;
 pub mod run;
 pub mod schema;
 pub mod verify;

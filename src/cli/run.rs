@@ -23,7 +23,12 @@ pub struct Args {
 
 /// Run the study and write its artifacts.
 pub fn run(args: Args) -> Result<i32, Error> {
-    let mut prepared = study::prepare(&args.spec, &super::environment())?;
+    let mut bar = super::progress::ProgressBar::new("reading the data");
+    let prepared = study::prepare(&args.spec, &super::environment(), &mut |d, t| {
+        bar.update(d, t)
+    });
+    bar.finish();
+    let mut prepared = prepared?;
     let artifacts = study::render(&mut prepared)?;
     let out = args
         .out

@@ -4,8 +4,21 @@
 //! Inline data come from the spec itself ([`inline`]); data files are read by the readers in
 //! this folder. Either way the analysis receives a [`Dataset`] and never touches a file.
 
+mod collect;
+mod delimited;
+pub mod error;
+pub mod file;
+mod parquet;
+mod source;
+mod tally;
+
+pub use error::{DataError, Place, Problem, ProblemKind};
+use file::empty;
+pub use file::{ArmData, FileData, Format, HISTOGRAM_BINS, ReadOptions, ValueKind, read_file};
+
 use crate::bounds::Summary;
-use crate::spec::{DataSource, Spec, SummaryStats};
+use crate::spec::{DataSource, OutcomeKind, Spec, SummaryStats};
+use std::path::Path;
 
 /// Every arm's data, plus the files they came from.
 #[derive(Debug, Clone, Default)]
@@ -120,4 +133,61 @@ pub fn inline(spec: &Spec) -> Option<Dataset> {
         arms,
         inputs: Vec::new(),
     })
+}
+
+/// Read the data file a spec names (relative to `base`, the spec's folder) into a [`Dataset`].
+///
+/// `keep_observations` asks for the ordered stream (methods such as betting need it); without
+/// it memory does not grow with the number of rows. `progress(bytes_done, total)` is called
+/// every few megabytes. Returns `None` when the spec's data are inline.
+pub fn read(
+    spec: &Spec,
+    base: &Path,
+    keep_observations: bool,
+    progress: &mut dyn FnMut(u64, u64),
+) -> Option<Result<Dataset, DataError>> {
+    let DataSource::File(path) = &spec.data.source else {
+        return None;
+    };
+    let written = path.to_string_lossy().replace('\\', "/");
+    let kind = match (spec.outcome.kind, spec.outcome.range) {
+        (OutcomeKind::Bounded, Some((low, high))) => ValueKind::Bounded { low, high },
+        _ => ValueKind::Binary,
+    };
+    let column = spec.data.column.as_deref().unwrap_or("");
+    let opts = ReadOptions {
+        column,
+        arm_column: spec.data.arm_column.as_deref(),
+        order_column: spec.data.order_column.as_deref(),
+        kind,
+        keep_observations,
+        expected_arms: None,
+    };
+    let resolved = base.join(path);
+    Some(read_file(&written, &resolved, &opts, progress).map(|f| {
+        Dataset {
+            arms: f
+                .arms
+                .into_iter()
+                .map(|a| {
+                    let n = a.summary.n;
+                    let values = match (kind, a.events) {
+                        (ValueKind::Binary, Some(events)) => Values::Counts { events },
+                        _ => Values::Bounded(BoundedValues {
+                            summary: a.summary,
+                            observations: a.observations,
+                            histogram: Some(a.histogram),
+                            stated_sd: None,
+                        }),
+                    };
+                    Arm {
+                        name: a.name,
+                        n,
+                        values,
+                    }
+                })
+                .collect(),
+            inputs: vec![f.input],
+        }
+    }))
 }
