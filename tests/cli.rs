@@ -412,6 +412,16 @@ fn registered_criteria_are_rechecked_by_run() {
     assert!(o.status.success());
     let item = criteria_item(&out);
     assert_eq!(item["status"], "open");
+    // The run report carries the sample-size rationale (the plan section is shared with the
+    // plan report): 299 and 473 trials for 0 and 1 events at 95 % / 1 % (plan_values.json).
+    let text = Command::new("pdftotext")
+        .arg(out.join("report.pdf"))
+        .arg("-")
+        .output()
+        .expect("pdftotext runs");
+    let text = String::from_utf8_lossy(&text.stdout);
+    assert!(text.contains("Sample-size rationale"), "{text}");
+    assert!(text.contains("Demonstration plans") && text.contains("473"));
     assert!(
         item["evidence"]
             .as_str()
@@ -551,4 +561,51 @@ fn bounded_example_shows_every_method_side_by_side() {
     let inputs = &r["provenance"]["inputs"][0];
     assert_eq!(inputs["path"], "approach-errors.csv");
     assert_eq!(inputs["rows"], 240_000);
+}
+
+// Bad data in a file: exit 2, the file's own line and column in the message, nothing written.
+#[test]
+fn bad_data_files_are_refused_with_their_line_and_nothing_is_written() {
+    let dir = tempfile::tempdir().unwrap();
+    let spec = dir.path().join("study.yaml");
+    std::fs::write(
+        &spec,
+        "surety: 1
+study: {id: T-9, title: Stop error}
+claim: {quantity: mean stop error, side: upper, limit: 0.3, confidence: 0.95}
+outcome: {type: bounded, range: [0, 2.5], unit: m}
+data: {file: errors.csv, column: error_m}
+",
+    )
+    .unwrap();
+    let cases: &[(&str, &str)] = &[
+        (
+            "error_m\n0.2\n2.7\n0.1\n",
+            "errors.csv:3:1: value `2.7` is outside the declared range [0, 2.5] in column `error_m`",
+        ),
+        ("error_m\n0.2\n\n", "errors.csv:3"),
+        (
+            "error_m\n0.2\nNaN\n",
+            "errors.csv:3:1: value `NaN` in column `error_m` is not a finite number",
+        ),
+        (
+            "error_m\n0.2\n0,3\n",
+            "errors.csv:3:2: this row has 2 fields but the header has 1",
+        ),
+        ("stop\n0.2\n", "no column named `error_m`"),
+    ];
+    for (csv, fragment) in cases {
+        std::fs::write(dir.path().join("errors.csv"), csv).unwrap();
+        let out = dir.path().join("out");
+        let o = run(&[
+            "run",
+            spec.to_str().unwrap(),
+            "--out",
+            out.to_str().unwrap(),
+        ]);
+        let stderr = String::from_utf8_lossy(&o.stderr);
+        assert_eq!(o.status.code(), Some(2), "{csv:?}: {stderr}");
+        assert!(stderr.contains(fragment), "{csv:?}: {stderr}");
+        assert!(!out.exists(), "{csv:?}: an output folder was left behind");
+    }
 }

@@ -256,6 +256,22 @@ pub fn render_pdf(inputs: &ReportInputs) -> Result<Vec<u8>, ReportError> {
     })?;
 
     let plots = plots::render_plots(a).map_err(|e| ReportError::Internal(format!("plot: {e}")))?;
+    // The sample-size rationale: the plan, its printed forms and its charts, when there is one.
+    let plan_files = match &a.plan {
+        None => None,
+        Some(plan) => {
+            let json = serde_json::to_vec_pretty(plan)
+                .map_err(|e| ReportError::Internal(format!("plan: {e}")))?;
+            let display = serde_json::to_vec_pretty(&super::plan_pdf::plan_display(
+                plan,
+                a.outcome.unit.as_deref(),
+            ))
+            .map_err(|e| ReportError::Internal(format!("plan display: {e}")))?;
+            let charts = super::plan_plots::render_plan_plots(plan)
+                .map_err(|e| ReportError::Internal(format!("plan plot: {e}")))?;
+            Some((json, display, charts))
+        }
+    };
     let font_set = fonts::font_set().map_err(ReportError::Internal)?;
 
     let spec = SpecNames::new(inputs.spec_name);
@@ -300,6 +316,16 @@ pub fn render_pdf(inputs: &ReportInputs) -> Result<Vec<u8>, ReportError> {
         put(&histogram_path(i), Bytes::from_string(svg))?;
     }
     put(&spec.served, Bytes::new(inputs.spec_bytes.to_vec()))?;
+    if let Some((json, display, charts)) = plan_files {
+        put(template::PLAN_JSON, Bytes::new(json))?;
+        put(template::PLAN_DISPLAY_JSON, Bytes::new(display))?;
+        if let Some(svg) = charts.oc {
+            put(super::plan_plots::OC_PLOT, Bytes::from_string(svg))?;
+        }
+        if let Some(svg) = charts.sawtooth {
+            put(super::plan_plots::SAW_PLOT, Bytes::from_string(svg))?;
+        }
+    }
     for ((served, _, _), (_, bytes)) in data_names.iter().zip(inputs.data_files) {
         put(served, Bytes::new(bytes.clone()))?;
     }

@@ -44,6 +44,11 @@ pub(crate) fn histogram_path(i: usize) -> String {
     format!("plots/values-{:02}.svg", i + 1)
 }
 
+/// Where the run report's plan (sample-size rationale) is served, and its printed forms.
+pub(crate) const PLAN_JSON: &str = "data/plan.json";
+/// See [`PLAN_JSON`].
+pub(crate) const PLAN_DISPLAY_JSON: &str = "data/plan-display.json";
+
 /// A failure to turn the template into typst source.
 #[derive(Debug, Clone, PartialEq, Eq)]
 pub(crate) struct TemplateFailure {
@@ -69,6 +74,19 @@ pub(crate) fn render_main(template: &str, a: &Analysis) -> Result<String, Templa
     env.set_auto_escape_callback(|_| minijinja::AutoEscape::None);
     env.set_undefined_behavior(UndefinedBehavior::Strict);
     env.add_template(TEMPLATE_NAME, template).map_err(failure)?;
+    // The plan section is shared with the plan report, so the two never diverge.
+    env.add_template(
+        super::plan_pdf::PLAN_SECTION_NAME,
+        super::plan_pdf::plan_section_template(),
+    )
+    .map_err(failure)?;
+    let (oc, saw) = match &a.plan {
+        Some(p) => (
+            super::plan_plots::oc_svg(p).ok().flatten().is_some(),
+            super::plan_plots::sawtooth_svg(p).ok().flatten().is_some(),
+        ),
+        None => (false, false),
+    };
 
     let several = a.arms.len() > 1;
     // Curve plots are numbered over the arms that have a curve (binary counts).
@@ -128,6 +146,10 @@ pub(crate) fn render_main(template: &str, a: &Analysis) -> Result<String, Templa
         has_histograms => binned > 0,
         has_omitted => !a.omitted_methods.is_empty(),
         binary => a.outcome.kind == "binary",
+        has_plan => a.plan.is_some(),
+        oc_plot => oc.then_some(super::plan_plots::OC_PLOT),
+        saw_plot => saw.then_some(super::plan_plots::SAW_PLOT),
+        plan_level => 2,
         bounded => a.outcome.kind != "binary",
     };
     env.get_template(TEMPLATE_NAME)
