@@ -403,11 +403,15 @@ fn bounded_plug_in_sizes_match_reference() {
         assert_eq!(get("hoeffding").trials, u(&w["hoeffding"]), "{case}");
         assert_eq!(get("chernoff-kl").trials, u(&w["chernoff_kl"]), "{case}");
         assert_eq!(
-            get("empirical-bernstein").trials,
+            get("bernstein-empirical").trials,
             u(&w["empirical_bernstein"]),
             "{case}"
         );
-        assert_eq!(get("bernstein").trials, u(&w["bernstein"]), "{case}");
+        assert_eq!(
+            get("bernstein-known-sd").trials,
+            u(&w["bernstein"]),
+            "{case}"
+        );
         assert!(rel(get("hoeffding").closed_form.unwrap(), f(&w["hoeffding_x"])) < 1e-12);
         assert!(
             rel(

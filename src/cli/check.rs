@@ -25,18 +25,37 @@ pub fn run(args: Args) -> Result<i32, Error> {
     let _ = writeln!(out, "{}: the spec is valid", args.spec.display());
     out.push_str(&crate::report::summary::header(a));
     let trials: u64 = a.arms.iter().map(|r| r.n).sum();
-    let events: u64 = a.arms.iter().filter_map(|r| r.events).sum();
     let plural = |n: u64, word: &str| {
         let s = if n == 1 { "" } else { "s" };
         format!("{} {word}{s}", crate::analysis::display::count(n))
+    };
+    let what = if a.outcome.kind == "binary" {
+        let events: u64 = a.arms.iter().filter_map(|r| r.events).sum();
+        plural(events, "event")
+    } else {
+        let means: Vec<String> = a
+            .arms
+            .iter()
+            .map(|r| r.display.mean.replace('\u{a0}', " "))
+            .collect();
+        format!("mean {}", means.join(" / "))
     };
     let _ = writeln!(
         out,
         "data     {}, {}, {}",
         plural(a.arms.len() as u64, "arm"),
         plural(trials, "trial"),
-        plural(events, "event")
+        what
     );
+    for f in &a.provenance.inputs {
+        let _ = writeln!(
+            out,
+            "         {} ({} rows, SHA-256 {})",
+            f.path,
+            crate::analysis::display::count(f.rows.unwrap_or(0)),
+            f.sha256.get(..16).unwrap_or(&f.sha256)
+        );
+    }
     let compare: Vec<&str> = a.methods.iter().skip(1).map(|m| m.id.as_str()).collect();
     let _ = writeln!(
         out,

@@ -118,7 +118,7 @@ impl AssumedLaw {
 /// The plug-in sample size for one method.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct BoundedSize {
-    /// Method id (`hoeffding`, `chernoff-kl`, `empirical-bernstein`, `bernstein`).
+    /// Method id (`hoeffding`, `chernoff-kl`, `bernstein-empirical`, `bernstein-known-sd`).
     pub method: &'static str,
     /// Smallest n at which the plug-in bound is at most the limit.
     pub trials: u64,
@@ -132,10 +132,10 @@ pub struct BoundedSize {
 ///   with [`crate::bounds::hoeffding::upper_mean`];
 /// * `chernoff-kl`: kl⁻¹₊(m, λ/n) ≤ ℓ, i.e. n = λ / kl(m ‖ ℓ), decided with
 ///   [`crate::bounds::chernoff_kl::upper_mean`];
-/// * `empirical-bernstein` (Maurer & Pontil 2009, Thm 4; METHODS §4b) with the sample variance
+/// * `bernstein-empirical` (Maurer & Pontil 2009, Thm 4; METHODS §4b) with the sample variance
 ///   set to s²: m + sqrt(2s² ln(2/δ)/n) + 7 ln(2/δ)/(3(n − 1)) ≤ ℓ, n ≥ 2 (no closed form
 ///   because of n − 1: searched);
-/// * `bernstein` with known variance s² (METHODS §4a, Bennett form), as a reference for what
+/// * `bernstein-known-sd` with known variance s² (METHODS §4a, Bennett form), as a reference for what
 ///   knowing the variance would save: m + sqrt(2s²λ/n) + λ/(3n) ≤ ℓ, a quadratic in 1/√n.
 ///
 /// Each n is the smallest at which the bound as computed meets the limit (verified at n and
@@ -206,12 +206,12 @@ pub fn bounded_sizes(
             closed_form: Some(kl_x),
         },
         BoundedSize {
-            method: "empirical-bernstein",
+            method: "bernstein-empirical",
             trials: search(bernstein_x.floor().max(2.0), &eb)?,
             closed_form: None,
         },
         BoundedSize {
-            method: "bernstein",
+            method: "bernstein-known-sd",
             trials: search(bernstein_x.floor(), &bern)?,
             closed_form: Some(bernstein_x),
         },

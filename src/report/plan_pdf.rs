@@ -415,7 +415,10 @@ pub fn plan_display(plan: &PlanResults, unit: Option<&str>) -> Value {
 
 /// The catalogue's display name of a method, or its id for methods only the planner knows.
 fn method_name(id: &str) -> String {
-    crate::bounds::find(id).map_or_else(|| id.to_string(), |m| m.name.to_string())
+    match id {
+        "bernstein-known-sd" => "Bernstein with a known sd (reference)".to_string(),
+        _ => crate::bounds::find(id).map_or_else(|| id.to_string(), |m| m.name.to_string()),
+    }
 }
 
 fn target_display(plan: &PlanResults) -> Value {

@@ -154,9 +154,14 @@ pub fn summary(spec: &Spec, plan: &PlanResults, criteria_sha256: &str) -> String
             b.assumed_mean, b.assumed_sd, b.law, b.range[0], b.range[1]
         );
         for s in &b.sizes {
+            let note = if s.method == "bernstein-known-sd" {
+                " — needs the true sd; a reference, not a method you can sign with"
+            } else {
+                ""
+            };
             let _ = writeln!(
                 out,
-                "  {:<22} {:>14} trials (bound at the assumed values meets the limit)",
+                "  {:<22} {:>14} trials (bound at the assumed values meets the limit){note}",
                 s.method,
                 n(s.trials)
             );
