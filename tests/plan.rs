@@ -440,7 +440,7 @@ fn simulated_median_pass_agrees_with_plug_in() {
     let law = AssumedLaw::new(0.0, 2.5, 1.0, 0.4).unwrap();
     let sizes = bounded_sizes(&law, 1.2, 0.05).unwrap();
     for (id, bound) in [
-        ("hoeffding", &hoeffding_bound as &dyn Fn(&[f64], f64) -> f64),
+        ("hoeffding", &hoeffding_bound as &surety::plan::MeanBound),
         ("chernoff-kl", &kl_bound),
     ] {
         let plug = sizes.iter().find(|s| s.method == id).unwrap().trials as f64;
@@ -725,7 +725,7 @@ fn plan_document_has_the_contract_fields_and_round_trips() {
 
 #[test]
 fn bounded_plan_document() {
-    let bound: &dyn Fn(&[f64], f64) -> f64 = &hoeffding_bound;
+    let bound: &surety::plan::MeanBound = &hoeffding_bound;
     let sims = [("hoeffding", bound)];
     let plan = bounded_plan(&BoundedRequest {
         low: 0.0,

@@ -28,7 +28,7 @@ use super::bounded::{AssumedLaw, LawKind};
 use super::{PlanError, Unreachable, check_delta, check_pass_probability};
 
 /// A bound on the mean of observations on [0, 1]: `bound(observations, delta)`.
-pub type MeanBound = dyn Fn(&[f64], f64) -> f64;
+pub type MeanBound = dyn Fn(&[f64], f64) -> f64 + Sync;
 
 /// Default number of simulated datasets per sample size.
 pub const SIM_REPLICATIONS: u32 = 1000;
@@ -138,9 +138,8 @@ pub fn simulate_n_with(
     }
     let cap = config.max_trials.clamp(1, SIM_HARD_CAP);
     let mut seen: Vec<(u64, f64)> = Vec::new();
-    let mut buf = Vec::new();
-    let mut frac = |n: u64, seen: &mut Vec<(u64, f64)>| {
-        let f = fraction(bound, law, n, delta, l, seed, r, &mut buf);
+    let frac = |n: u64, seen: &mut Vec<(u64, f64)>| {
+        let f = fraction(bound, law, n, delta, l, seed, r);
         seen.push((n, f));
         f
     };
@@ -203,17 +202,7 @@ pub fn pass_fraction(
     if trials > SIM_HARD_CAP {
         return Err(PlanError::TooManyTrials { cap: SIM_HARD_CAP });
     }
-    let mut buf = Vec::new();
-    Ok(fraction(
-        bound,
-        law,
-        trials,
-        delta,
-        l,
-        seed,
-        replications,
-        &mut buf,
-    ))
+    Ok(fraction(bound, law, trials, delta, l, seed, replications))
 }
 
 /// The dataset of replicate `replicate` with `trials` observations on the unit scale, as the
@@ -234,16 +223,18 @@ fn fraction(
     unit_limit: f64,
     seed: u64,
     replications: u32,
-    buf: &mut Vec<f64>,
 ) -> f64 {
+    use rayon::prelude::*;
     let len = usize::try_from(n).unwrap_or(usize::MAX);
-    let mut passed = 0u32;
-    for r in 0..replications {
-        fill(law, seed, u64::from(r), len, buf);
-        if bound(buf, delta) <= unit_limit {
-            passed += 1;
-        }
-    }
+    // Each replicate draws from its own stream, so the count does not depend on how the
+    // replicates are shared among threads.
+    let passed: u32 = (0..replications)
+        .into_par_iter()
+        .map_init(Vec::new, |b, r| {
+            fill(law, seed, u64::from(r), len, b);
+            u32::from(bound(b, delta) <= unit_limit)
+        })
+        .sum();
     f64::from(passed) / f64::from(replications)
 }
 
