@@ -79,6 +79,7 @@ pub(crate) fn check_report_structure(
     results_json: &[u8],
     spec_name: &str,
     spec: &[u8],
+    data: &[(&str, &[u8])],
 ) -> bool {
     let Some(out) = python::run("pdf_structure.py", &[pdf.as_os_str()]) else {
         return false;
@@ -100,6 +101,7 @@ pub(crate) fn check_report_structure(
         ("results.json".to_owned(), sha256(results_json)),
         (spec_name.to_owned(), sha256(spec)),
     ];
+    expected.extend(data.iter().map(|(n, b)| ((*n).to_owned(), sha256(b))));
     expected.sort();
     assert_eq!(files, expected, "attachments seen by pikepdf");
     let bytes = std::fs::read(pdf).expect("read PDF");
@@ -148,7 +150,7 @@ fn pikepdf_sees_what_surety_put_in() {
     let dir = tempfile::tempdir().expect("tempdir");
     let path = dir.path().join("report.pdf");
     std::fs::write(&path, REPORT).expect("write");
-    check_report_structure(&path, RESULTS, "study.yaml", SPEC);
+    check_report_structure(&path, RESULTS, "study.yaml", SPEC, &[]);
 }
 
 #[test]

@@ -193,3 +193,39 @@ fn a_changed_data_value_is_named() {
     assert_eq!(o.status.code(), Some(3), "{}", stdout(&o));
     assert!(stdout(&o).contains("the data changed"));
 }
+
+/// Fresh reports, checked by tools independent of surety: pikepdf (tests/reference/
+/// pdf_structure.py: PDF/A-3B identification in XMP, title and creator, output intent, the
+/// embedded files and their SHA-256) and `qpdf --check`.
+#[test]
+fn fresh_reports_pass_independent_pdf_checks() {
+    for (name, data) in [
+        ("release-signoff", None),
+        ("dock-approach", Some("approach-errors.csv")),
+    ] {
+        let (_keep, dir) = run_copy(name);
+        let pdf = dir.join("study-report/report.pdf");
+        let results = std::fs::read(dir.join("study-report/results.json")).unwrap();
+        let spec = std::fs::read(dir.join("study.yaml")).unwrap();
+        let data_bytes = data.map(|d| std::fs::read(dir.join(d)).unwrap());
+        let attached: Vec<(&str, &[u8])> = match (data, &data_bytes) {
+            (Some(d), Some(b)) => vec![(d, b.as_slice())],
+            _ => Vec::new(),
+        };
+        crate::extract::check_report_structure(&pdf, &results, "study.yaml", &spec, &attached);
+        match Command::new("qpdf").arg("--check").arg(&pdf).output() {
+            Ok(o) => assert!(
+                o.status.success(),
+                "{name}: qpdf --check: {}",
+                String::from_utf8_lossy(&o.stdout)
+            ),
+            Err(e) => {
+                assert!(
+                    std::env::var("SURETY_REQUIRE_REFERENCE").as_deref() != Ok("1"),
+                    "qpdf is required here: {e}"
+                );
+                eprintln!("SKIPPED qpdf --check: {e}");
+            }
+        }
+    }
+}
