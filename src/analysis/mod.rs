@@ -1024,6 +1024,17 @@ pub fn analyse(spec: &Spec, data: &Dataset, ctx: &Context) -> Result<Analysis, S
         }
     }
 
+    if matches!(
+        spec.data.source,
+        spec::DataSource::Summary(_) | spec::DataSource::ArmSummaries(_)
+    ) {
+        warnings.push(
+            "the data were given as n, mean and sd: the bounds take these as exact, so any \
+             rounding in them (up to half a unit of the last digit written) is carried into the \
+             bounds; give the values themselves in a data file to avoid it"
+                .to_string(),
+        );
+    }
     let (registration, moved) = registration_item(spec);
     warnings.extend(moved);
     let plan = match &spec.plan {

@@ -401,7 +401,7 @@ fn compile_and_export(
 }
 
 /// The `/Creator` of every report: the program, not the typesetting library.
-fn creator() -> String {
+pub(crate) fn creator() -> String {
     format!("surety {}", env!("CARGO_PKG_VERSION"))
 }
 
@@ -536,7 +536,8 @@ fn check_results(a: &Analysis, results_json: &[u8]) -> Result<(), ReportError> {
     Ok(())
 }
 
-fn convert(world: &ReportWorld, d: &SourceDiagnostic) -> Diagnostic {
+/// A typst diagnostic as surety reports it, located in the served files.
+pub(crate) fn convert(world: &ReportWorld, d: &SourceDiagnostic) -> Diagnostic {
     // Errors raised inside evaluated strings (the method formulas) have no file of their own;
     // the innermost call site that has one is the most useful place to point at.
     let location = locate(world, d.span).or_else(|| {

@@ -12,15 +12,13 @@ use std::collections::HashMap;
 
 use minijinja::{AutoEscape, Environment, UndefinedBehavior, context};
 use serde_json::{Value, json};
-use typst::diag::{Severity, SourceDiagnostic, Warned};
+use typst::diag::Warned;
 use typst::foundations::{Bytes, Datetime, Smart};
-use typst::syntax::DiagSpan;
-use typst::{World, WorldExt};
 use typst_layout::PagedDocument;
 use typst_pdf::{PdfOptions, PdfStandard, PdfStandards, Timestamp};
 
 use super::fonts::{self, fonts_sha256};
-use super::pdf::{Diagnostic, Location, ReportError, Stage};
+use super::pdf::{Diagnostic, ReportError, Stage, convert, creator};
 use super::plan_plots::{self, OC_PLOT, SAW_PLOT};
 use super::world::{ReportWorld, file_id};
 use crate::analysis::display::{self, Rounding};
@@ -233,38 +231,6 @@ fn compile_and_export(
             Stage::Export,
             errors.iter().map(|d| convert(world, d)).collect(),
         )
-    })
-}
-
-/// The `/Creator` of every surety PDF: the program, not the typesetting library.
-fn creator() -> String {
-    format!("surety {}", env!("CARGO_PKG_VERSION"))
-}
-
-fn convert(world: &ReportWorld, d: &SourceDiagnostic) -> Diagnostic {
-    let location = locate(world, d.span).or_else(|| {
-        d.trace
-            .iter()
-            .rev()
-            .find_map(|t| locate(world, DiagSpan::from(t.span)))
-    });
-    Diagnostic {
-        is_error: d.severity == Severity::Error,
-        message: d.message.to_string(),
-        location,
-        hints: d.hints.iter().map(|h| h.v.to_string()).collect(),
-    }
-}
-
-fn locate(world: &ReportWorld, span: DiagSpan) -> Option<Location> {
-    let id = span.id()?;
-    let range = world.range(span)?;
-    let lines = world.file(id).ok()?.lines().ok()?;
-    let (line, column) = lines.byte_to_line_column(range.start)?;
-    Some(Location {
-        path: id.vpath().get_without_slash().to_owned(),
-        line: line + 1,
-        column: column + 1,
     })
 }
 

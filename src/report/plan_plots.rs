@@ -10,20 +10,15 @@
 //! plotters measures it with the same font bytes; ticks are computed here from integers and
 //! labels carry a fixed number of decimals, so the SVG text is the same on every machine.
 
-use std::ops::Range;
-use std::sync::OnceLock;
-
 use plotters::coord::Shift;
-use plotters::coord::ranged1d::{DefaultFormatting, KeyPointHint, Ranged};
-use plotters::coord::types::RangedCoordf64;
 use plotters::prelude::*;
-use plotters::style::FontStyle;
 use plotters::style::text_anchor::{HPos, Pos, VPos};
 
 use typst::layout::Abs;
 use typst::text::FontVariations;
 
-use super::fonts::{SANS_BOLD, SANS_FAMILY, SANS_REGULAR};
+use super::fonts::SANS_FAMILY;
+use super::plots::{register_fonts, span_axis};
 use crate::analysis::display::{self, Rounding};
 use crate::plan::operating::{SawPoint, sawtooth};
 use crate::plan::{PlanResults, min_trials, pass_probability};
@@ -63,63 +58,6 @@ pub(crate) fn render_plan_plots(plan: &PlanResults) -> Result<PlanPlots, String>
         oc: oc_svg(plan)?,
         sawtooth: sawtooth_svg(plan)?,
     })
-}
-
-/// Registers the embedded sans faces with plotters (once per process). The run report's plots
-/// register the same family with the same bytes, so either may run first.
-fn register_fonts() -> Result<(), String> {
-    static DONE: OnceLock<Result<(), String>> = OnceLock::new();
-    DONE.get_or_init(|| {
-        for (style, bytes) in [
-            (FontStyle::Normal, SANS_REGULAR),
-            (FontStyle::Bold, SANS_BOLD),
-        ] {
-            plotters::style::register_font(SANS_FAMILY, style, bytes)
-                .map_err(|_| format!("plotters rejected the embedded font {SANS_FAMILY}"))?;
-        }
-        Ok(())
-    })
-    .clone()
-}
-
-/// A linear axis with given ticks, so plotters never chooses them from float arithmetic.
-struct Axis {
-    inner: RangedCoordf64,
-    ticks: Vec<f64>,
-}
-
-impl Axis {
-    fn new(lo: f64, hi: f64, ticks: Vec<f64>) -> Self {
-        Axis {
-            inner: (lo..hi).into(),
-            ticks,
-        }
-    }
-}
-
-impl Ranged for Axis {
-    type FormatOption = DefaultFormatting;
-    type ValueType = f64;
-
-    fn map(&self, value: &f64, limit: (i32, i32)) -> i32 {
-        self.inner.map(value, limit)
-    }
-
-    fn key_points<Hint: KeyPointHint>(&self, hint: Hint) -> Vec<f64> {
-        if hint.weight().allow_light_points() {
-            Vec::new()
-        } else {
-            self.ticks.clone()
-        }
-    }
-
-    fn range(&self) -> Range<f64> {
-        self.inner.range()
-    }
-
-    fn axis_pixel_range(&self, limit: (i32, i32)) -> Range<i32> {
-        self.inner.axis_pixel_range(limit)
-    }
 }
 
 /// Ticks at whole multiples of a "nice" step (1, 2, 2.5 or 5 times a power of ten) inside
@@ -486,8 +424,8 @@ pub(crate) fn oc_svg(plan: &PlanResults) -> Result<Option<String>, String> {
             .x_label_area_size(44)
             .y_label_area_size(56)
             .build_cartesian_2d(
-                Axis::new(0.0, xmax * f, xticks),
-                Axis::new(0.0, 100.0, yticks),
+                span_axis(0.0, xmax * f, xticks),
+                span_axis(0.0, 100.0, yticks),
             )
             .map_err(|e| e.to_string())?;
         let label_font = (SANS_FAMILY, font_px).into_font().color(&INK);
@@ -715,7 +653,7 @@ pub(crate) fn sawtooth_svg(plan: &PlanResults) -> Result<Option<String>, String>
             .margin_right(24)
             .x_label_area_size(44)
             .y_label_area_size(62)
-            .build_cartesian_2d(Axis::new(xlo, xhi, xticks), Axis::new(ylo, yhi, yticks))
+            .build_cartesian_2d(span_axis(xlo, xhi, xticks), span_axis(ylo, yhi, yticks))
             .map_err(|e| e.to_string())?;
         // The band first, so grid lines and data are drawn over it.
         chart

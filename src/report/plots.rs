@@ -32,7 +32,7 @@ const BAND: RGBColor = RGBColor(0xee, 0xf0, 0xf2);
 
 /// An axis whose ticks are given, rather than chosen by plotters from floating-point
 /// arithmetic, so that tick positions and labels are the same on every machine.
-struct Ticked<R: Ranged<ValueType = f64>> {
+pub(crate) struct Ticked<R: Ranged<ValueType = f64>> {
     inner: R,
     ticks: Vec<f64>,
 }
@@ -74,7 +74,7 @@ fn linear_axis(hi: f64, ticks: Vec<f64>) -> Ticked<RangedCoordf64> {
     span_axis(0.0, hi, ticks)
 }
 
-fn span_axis(lo: f64, hi: f64, ticks: Vec<f64>) -> Ticked<RangedCoordf64> {
+pub(crate) fn span_axis(lo: f64, hi: f64, ticks: Vec<f64>) -> Ticked<RangedCoordf64> {
     Ticked {
         inner: (lo..hi).into(),
         ticks,
@@ -137,7 +137,7 @@ pub(crate) fn histogram_of(arm: &ArmResult) -> Option<(&[u64], [f64; 2])> {
 }
 
 /// Registers the embedded sans faces with plotters' font registry (once per process).
-fn register_fonts() -> Result<(), String> {
+pub(crate) fn register_fonts() -> Result<(), String> {
     static DONE: OnceLock<Result<(), String>> = OnceLock::new();
     DONE.get_or_init(|| {
         for (style, bytes) in [
