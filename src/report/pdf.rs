@@ -452,13 +452,19 @@ fn data_attachment_names(
 }
 
 /// Names under which the spec is served to typst and attached to the PDF.
-struct SpecNames {
-    served: String,
-    attach: String,
+pub(crate) struct SpecNames {
+    pub(crate) served: String,
+    pub(crate) attach: String,
 }
 
 impl SpecNames {
     fn new(spec_name: &str) -> Self {
+        Self::beside(spec_name, "results.json")
+    }
+
+    /// Only the spec's own file name is kept (no folders, no control characters), and it may
+    /// not collide with `other`, the document's data attachment.
+    pub(crate) fn beside(spec_name: &str, other: &str) -> Self {
         let base = spec_name.rsplit(['/', '\\']).next().unwrap_or("").trim();
         let clean: String = base
             .chars()
@@ -476,8 +482,8 @@ impl SpecNames {
             "spec/study.yaml".to_owned()
         };
         let attach_base = served.trim_start_matches("spec/").to_owned();
-        // results.json is attached under its own name; two attachments may not share one.
-        let attach = if attach_base == "results.json" {
+        // Two attachments may not share one name.
+        let attach = if attach_base == other {
             format!("spec-{attach_base}")
         } else {
             attach_base

@@ -18,7 +18,7 @@ use typst_layout::PagedDocument;
 use typst_pdf::{PdfOptions, PdfStandard, PdfStandards, Timestamp};
 
 use super::fonts::{self, fonts_sha256};
-use super::pdf::{Diagnostic, ReportError, Stage, convert, creator};
+use super::pdf::{Diagnostic, ReportError, SpecNames, Stage, convert, creator};
 use super::plan_plots::{self, OC_PLOT, SAW_PLOT};
 use super::world::{ReportWorld, file_id};
 use crate::analysis::display::{self, Rounding};
@@ -111,7 +111,7 @@ fn render_with(
     )?;
     let font_set = fonts::font_set().map_err(ReportError::Internal)?;
 
-    let spec = spec_names(inputs.spec_name);
+    let spec = SpecNames::beside(inputs.spec_name, "plan.json");
     let unit = inputs.spec.outcome.unit.as_deref();
     let to_bytes = |v: &Value, what: &str| {
         serde_json::to_vec_pretty(v).map_err(|e| ReportError::Internal(format!("{what}: {e}")))
@@ -232,40 +232,6 @@ fn compile_and_export(
             errors.iter().map(|d| convert(world, d)).collect(),
         )
     })
-}
-
-/// Where the spec is served to typst and the name it is attached under.
-struct SpecNames {
-    served: String,
-    attach: String,
-}
-
-/// Only the spec's own file name is kept (no folders, no control characters), and it may not
-/// collide with plan.json, which is attached beside it.
-fn spec_names(spec_name: &str) -> SpecNames {
-    let base = spec_name.rsplit(['/', '\\']).next().unwrap_or("").trim();
-    let clean: String = base
-        .chars()
-        .map(|c| if c.is_control() { '_' } else { c })
-        .collect();
-    let base = if clean.is_empty() || clean == "." || clean == ".." {
-        "study.yaml".to_owned()
-    } else {
-        clean
-    };
-    let served = format!("spec/{base}");
-    let served = if file_id(&served).is_ok() {
-        served
-    } else {
-        "spec/study.yaml".to_owned()
-    };
-    let attach = served.trim_start_matches("spec/").to_owned();
-    let attach = if attach == "plan.json" {
-        format!("spec-{attach}")
-    } else {
-        attach
-    };
-    SpecNames { served, attach }
 }
 
 /// A value as the user wrote it, in percent (0.002 → `0.2 %`): inputs are never rounded.
@@ -729,9 +695,21 @@ mod tests {
 
     #[test]
     fn spec_names_keep_only_a_safe_file_name() {
-        assert_eq!(spec_names("a/b/plan.yaml").served, "spec/plan.yaml");
-        assert_eq!(spec_names("C:\\x\\v1.yaml").attach, "v1.yaml");
-        assert_eq!(spec_names("..").served, "spec/study.yaml");
-        assert_eq!(spec_names("plan.json").attach, "spec-plan.json");
+        assert_eq!(
+            SpecNames::beside("a/b/plan.yaml", "plan.json").served,
+            "spec/plan.yaml"
+        );
+        assert_eq!(
+            SpecNames::beside("C:\\x\\v1.yaml", "plan.json").attach,
+            "v1.yaml"
+        );
+        assert_eq!(
+            SpecNames::beside("..", "plan.json").served,
+            "spec/study.yaml"
+        );
+        assert_eq!(
+            SpecNames::beside("plan.json", "plan.json").attach,
+            "spec-plan.json"
+        );
     }
 }
