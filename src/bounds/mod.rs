@@ -306,7 +306,8 @@ pub static CATALOGUE: &[Method] = &[
         name: "Hoeffding",
         statement: "The mean of n independent values in [0, 1] exceeds its observed value by \
                     more than t with probability at most exp(−2nt²). It ignores the variance, \
-                    so it is the loosest of the three on small rates.",
+                    so it is the loosest method whenever the values spread little (small rates \
+                    included).",
         formula_typst: "U = hat(p) + sqrt(ln(1 slash delta) / (2 n)), quad \
                         L = hat(p) - sqrt(ln(1 slash delta) / (2 n))",
         citation: "W. Hoeffding (1963), \"Probability inequalities for sums of bounded random \
