@@ -67,7 +67,9 @@ pub(crate) struct TemplateFailure {
 /// - `methods`: list of `{index}` into `results.methods`; `signatures`: list of `{index}`;
 /// - `has_open`, `has_warnings`, `has_steps`, `has_inputs`, `has_compare`,
 ///   `has_lower` (some bound has a lower value), `has_curves`, `has_histograms`,
-///   `has_omitted` (some compare method was left out), `binary` (binary outcome), `bounded`.
+///   `has_omitted` (some compare method was left out), `binary` (binary outcome), `bounded`;
+/// - `has_plan`, `oc_plot`, `saw_plot`, `plan_level`: the sample-size rationale, rendered by the
+///   shared `plan-section.typ.j2` from data/plan.json and data/plan-display.json.
 pub(crate) fn render_main(template: &str, a: &Analysis) -> Result<String, TemplateFailure> {
     let mut env = Environment::new();
     // Typst source is not HTML; and an unknown variable is a template bug, never silently "".
