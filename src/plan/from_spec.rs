@@ -126,8 +126,9 @@ pub fn plan(spec: &Spec, data: Option<&Dataset>) -> Result<PlanResults, SpecErro
                     ),
                 ));
             };
-            let betting = bounds::find("betting").is_some_and(|m| m.two_sided_built);
-            let delta = delta_per_bound(spec, arms, betting);
+            // Two-sided claims halve δ for every method planned here: the hedged betting
+            // interval's ends are exactly the one-sided bounds at δ/2, and the others split it.
+            let delta = delta_per_bound(spec, arms, false);
             // Reflect x ↦ a + b − x for a lower claim: the mean's lower bound becomes an upper one.
             let flip = |x: f64| if lower { a + b - x } else { x };
             let sims: Vec<(&str, &MeanBound)> = if p.pass_probability.is_some() {
