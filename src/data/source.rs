@@ -26,7 +26,18 @@ pub(crate) struct Digest256 {
 
 /// Opens `path`, or says why not, naming the file as the spec wrote it.
 pub(crate) fn open(file: &str, path: &Path) -> Result<(File, u64), DataError> {
-    let f = File::open(path).map_err(|e| unreadable(file, &e))?;
+    let f = File::open(path).map_err(|e| {
+        let err = unreadable(file, &e);
+        if e.kind() == std::io::ErrorKind::NotFound {
+            // The path is relative to the spec's folder, which is where it was looked for.
+            err.with_hint(format!(
+                "`data.file` is relative to the spec's folder; looked for {}",
+                path.display()
+            ))
+        } else {
+            err
+        }
+    })?;
     let len = f.metadata().map_err(|e| unreadable(file, &e))?.len();
     Ok((f, len))
 }
