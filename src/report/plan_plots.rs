@@ -18,20 +18,31 @@ use typst::layout::Abs;
 use typst::text::FontVariations;
 
 use super::fonts::SANS_FAMILY;
-use super::plots::{register_fonts, span_axis};
+use super::plots::{ACCENT, AXIS, GRID, INK, LIMIT, register_fonts, span_axis};
 use crate::analysis::display::{self, Rounding};
 use crate::plan::operating::{SawPoint, sawtooth};
 use crate::plan::{PlanResults, min_trials, pass_probability};
 
-const INK: RGBColor = RGBColor(0x22, 0x25, 0x2a);
-const GRID: RGBColor = RGBColor(0xe2, 0xe4, 0xe8);
-const AXIS: RGBColor = RGBColor(0x8a, 0x90, 0x98);
-const ACCENT: RGBColor = RGBColor(0x1f, 0x4e, 0x79);
-const LIMIT: RGBColor = RGBColor(0x9b, 0x3d, 0x2f);
 const HELD: RGBColor = RGBColor(0xea, 0xf0, 0xf6);
 /// Demonstration plans run from a light to a dark grey as the allowed events grow.
 const RAMP_LIGHT: (u8, u8, u8) = (0xa8, 0xae, 0xb5);
 const RAMP_DARK: (u8, u8, u8) = (0x3c, 0x42, 0x4a);
+
+/// A number of trials as an axis label: grouped digits below a billion, else a power of ten.
+/// (The run report's log axis switches at 10^7; the sawtooth's linear axis spans a narrow range
+/// of large numbers, where switching form partway along would mix two styles on one axis.)
+fn trials_label(v: f64) -> String {
+    if v < 1e9 {
+        return display::count(v.round().max(0.0) as u64);
+    }
+    let exp = v.log10().floor() as i32;
+    let mantissa = v / 10f64.powi(exp);
+    format!(
+        "{}×10{}",
+        (mantissa * 100.0).round() / 100.0,
+        display::superscript(exp)
+    )
+}
 
 /// Largest number of points drawn on the sawtooth; long teeth are sampled, their ends never.
 const SAW_POINTS: u64 = 1600;
@@ -92,20 +103,6 @@ fn ticks(lo: f64, hi: f64, target: f64, whole: bool) -> (Vec<f64>, usize) {
         .map(|k| k as f64 * step)
         .collect();
     (out, if whole { 0 } else { best.2 })
-}
-
-/// A number of trials as an axis label: grouped digits below a billion, else a power of ten.
-fn trials_label(v: f64) -> String {
-    if v < 1e9 {
-        return display::count(v.round().max(0.0) as u64);
-    }
-    let exp = v.log10().floor() as i32;
-    let mantissa = v / 10f64.powi(exp);
-    format!(
-        "{}×10{}",
-        (mantissa * 100.0).round() / 100.0,
-        display::superscript(exp)
-    )
 }
 
 /// How rates are written on the axis: in percent, per million or per billion, whichever keeps

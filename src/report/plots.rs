@@ -19,12 +19,12 @@ use plotters::style::FontStyle;
 use super::fonts::{SANS_BOLD, SANS_FAMILY, SANS_REGULAR};
 use crate::analysis::model::{Analysis, ArmResult, BoundResult, Curve};
 
-const INK: RGBColor = RGBColor(0x22, 0x25, 0x2a);
-const GRID: RGBColor = RGBColor(0xe2, 0xe4, 0xe8);
-const AXIS: RGBColor = RGBColor(0x8a, 0x90, 0x98);
-const ACCENT: RGBColor = RGBColor(0x1f, 0x4e, 0x79);
+pub(crate) const INK: RGBColor = RGBColor(0x22, 0x25, 0x2a);
+pub(crate) const GRID: RGBColor = RGBColor(0xe2, 0xe4, 0xe8);
+pub(crate) const AXIS: RGBColor = RGBColor(0x8a, 0x90, 0x98);
+pub(crate) const ACCENT: RGBColor = RGBColor(0x1f, 0x4e, 0x79);
 const SECOND: RGBColor = RGBColor(0x7d, 0x84, 0x8c);
-const LIMIT: RGBColor = RGBColor(0x9b, 0x3d, 0x2f);
+pub(crate) const LIMIT: RGBColor = RGBColor(0x9b, 0x3d, 0x2f);
 /// Histogram bars: a light tint of the accent, so that the mean line drawn over them stays clear.
 const BAR: RGBColor = RGBColor(0xb4, 0xc7, 0xda);
 /// Bands behind group headings, and the parts of a histogram axis outside the declared range.
@@ -411,12 +411,11 @@ impl ValueAxis {
     }
 }
 
-/// Groups thousands with commas, matching the model's display strings ("4,600").
 /// A tick label for a number of trials: grouped digits up to ten million, a power-of-ten form
 /// beyond, so that labels of huge campaigns stay short.
-fn trials_label(v: f64) -> String {
+pub(crate) fn trials_label(v: f64) -> String {
     if v < 1e7 {
-        return group(v);
+        return crate::analysis::display::count(v.round().max(0.0) as u64);
     }
     let exp = v.log10().floor() as i32;
     let mantissa = v / 10f64.powi(exp);
@@ -426,18 +425,6 @@ fn trials_label(v: f64) -> String {
     } else {
         format!("{}×10{digits}", (mantissa * 10.0).round() / 10.0)
     }
-}
-
-fn group(v: f64) -> String {
-    let digits = format!("{}", v.round().max(0.0) as u64);
-    let mut out = String::new();
-    for (i, c) in digits.chars().enumerate() {
-        if i > 0 && (digits.len() - i) % 3 == 0 {
-            out.push(',');
-        }
-        out.push(c);
-    }
-    out
 }
 
 /// Text fit for a plot label, whole: control characters (which XML, and so SVG, cannot carry)
@@ -1312,7 +1299,7 @@ fn histogram_svg(
             .x_desc(format!("observed value{}", scale.axis_unit()))
             .y_desc("number of values")
             .x_label_formatter(&|v| format!("{:.*}", decimals, v))
-            .y_label_formatter(&|v| group(*v))
+            .y_label_formatter(&|v| crate::analysis::display::count(v.round().max(0.0) as u64))
             .draw()
             .map_err(|e| e.to_string())?;
         let err = |e: DrawingAreaErrorKind<_>| e.to_string();
@@ -1396,11 +1383,13 @@ mod tests {
     }
 
     #[test]
-    fn grouping_matches_display_strings() {
-        // The model prints 4600 trials as "4,600" (results sample).
-        assert_eq!(group(4600.0), "4,600");
-        assert_eq!(group(1_000_000.0), "1,000,000");
-        assert_eq!(group(999.0), "999");
+    fn trial_labels_group_digits_then_use_powers_of_ten() {
+        // Expected strings by decimal arithmetic: digits grouped in threes as the model prints
+        // them ("4,600"), powers of ten from 10^7 on.
+        assert_eq!(trials_label(4600.0), "4,600");
+        assert_eq!(trials_label(1_000_000.0), "1,000,000");
+        assert_eq!(trials_label(1e8), "10⁸");
+        assert_eq!(trials_label(2.5e9), "2.5×10⁹");
     }
 
     #[test]
