@@ -5,7 +5,7 @@
 use crate::analysis::model::AdjustmentStep;
 
 /// Why the budget is divided.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[derive(Debug, Clone, Copy, PartialEq)]
 pub enum Division {
     /// Several arms certified simultaneously (`scope: all`).
     AllArms(u64),
@@ -13,13 +13,44 @@ pub enum Division {
     BestOf(u64),
     /// A two-sided claim from a method that is not built two-sided.
     TwoSides,
+    /// Look `look` of `planned` planned looks of a fixed-n method, spending `share` of δ.
+    Look {
+        /// This look's number, 1-based.
+        look: u32,
+        /// Number of planned looks.
+        planned: u32,
+        /// The share of δ this look may spend, in (0, 1].
+        share: f64,
+        /// Whether every planned look has the same share.
+        equal: bool,
+    },
+    /// What earlier fixed-n looks spent is no longer available to a method valid at any time.
+    Spent {
+        /// δ already spent.
+        spent: f64,
+        /// The claim's δ.
+        delta: f64,
+    },
 }
 
 impl Division {
-    fn divisor(self) -> u64 {
+    fn divisor(self) -> f64 {
         match self {
-            Division::AllArms(k) | Division::BestOf(k) => k.max(1),
-            Division::TwoSides => 2,
+            Division::AllArms(k) | Division::BestOf(k) => k.max(1) as f64,
+            Division::TwoSides => 2.0,
+            Division::Look {
+                planned,
+                equal,
+                share,
+                ..
+            } => {
+                if equal {
+                    f64::from(planned)
+                } else {
+                    1.0 / share
+                }
+            }
+            Division::Spent { spent, delta } => delta / (delta - spent),
         }
     }
 
@@ -33,6 +64,33 @@ impl Division {
                  certified at δ/{k} (simultaneous coverage makes the selection harmless)"
             ),
             Division::TwoSides => "two-sided claim: δ/2 for each side".to_string(),
+            Division::Look {
+                look,
+                planned,
+                share,
+                equal,
+            } => {
+                if equal {
+                    format!(
+                        "look {look} of {planned} planned looks of a fixed-n method: equal \
+                         spending, δ/{planned} for this look (the running bound over looks \
+                         is covered by the union bound)"
+                    )
+                } else {
+                    format!(
+                        "look {look} of {planned} planned looks of a fixed-n method: this look's \
+                         weight is {:.4} of δ (the running bound over looks is covered by the \
+                         union bound)",
+                        share
+                    )
+                }
+            }
+            Division::Spent { spent, delta } => format!(
+                "earlier fixed-n looks spent {} of δ = {}: the confidence sequence uses what \
+                 is left",
+                crate::analysis::display::probability(spent),
+                crate::analysis::display::probability(delta)
+            ),
         }
     }
 }
@@ -55,13 +113,22 @@ pub fn divide(delta: f64, divisions: &[Division]) -> Budget {
     let mut steps = Vec::new();
     for division in divisions {
         let divisor = division.divisor();
-        if divisor <= 1 {
+        if divisor <= 1.0 {
             continue;
         }
-        current /= divisor as f64;
+        // A share is applied as a product: δ·w is exact where δ/(1/w) may not be.
+        current = match division {
+            Division::Look {
+                share,
+                equal: false,
+                ..
+            } => current * share,
+            Division::Spent { spent, delta } => current * ((delta - spent) / delta),
+            _ => current / divisor,
+        };
         steps.push(AdjustmentStep {
             reason: division.reason(),
-            divisor: divisor as f64,
+            divisor,
             delta_after: current,
             display_delta_after: crate::analysis::display::probability(current),
         });
@@ -82,6 +149,26 @@ mod tests {
         let b = divide(0.05, &[Division::AllArms(4), Division::TwoSides]);
         assert_eq!(b.steps.len(), 2);
         assert!((b.delta_per_bound - 0.05 / 8.0).abs() < 1e-18);
+    }
+
+    // METHODS.md §11: look l of L with equal spending gets δ/L.
+    #[test]
+    fn equal_looks_divide_by_the_number_planned() {
+        let look = Division::Look {
+            look: 2,
+            planned: 4,
+            share: 0.25,
+            equal: true,
+        };
+        let b = divide(0.05, &[look]);
+        assert_eq!(b.delta_per_bound, 0.05 / 4.0);
+        let weighted = Division::Look {
+            look: 1,
+            planned: 2,
+            share: 0.2,
+            equal: false,
+        };
+        assert_eq!(divide(0.05, &[weighted]).delta_per_bound, 0.05 * 0.2);
     }
 
     #[test]

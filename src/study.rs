@@ -163,6 +163,7 @@ pub fn analyse_loaded(
         spec_sha256: sha256_hex(&spec_bytes),
         template_sha256: report::template_sha256(template_text),
         fonts_sha256: report::fonts_sha256(),
+        looks: analysis::looks::LookContext::unregistered(),
     };
     let data = load_data(&spec, base, progress)?;
     let analysis = analysis::analyse(&spec, &data, &ctx)?;

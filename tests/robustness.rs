@@ -29,6 +29,7 @@ fn analyse(text: &str) {
             spec_sha256: String::new(),
             template_sha256: String::new(),
             fonts_sha256: String::new(),
+            looks: surety::analysis::looks::LookContext::unregistered(),
         };
         let data = surety::data::inline(&spec).unwrap_or_default();
         if let Ok(a) = surety::analysis::analyse(&spec, &data, &ctx) {

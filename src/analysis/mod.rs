@@ -3,7 +3,9 @@
 //! Everything here is pure. The caller supplies what comes from outside (the report date, the
 //! hashes of the spec, template and fonts), so the same inputs always give the same result.
 
+pub mod dependence;
 pub mod display;
+pub mod looks;
 pub mod model;
 
 use crate::adjust::{self, Division};
@@ -28,6 +30,8 @@ pub struct Context {
     pub template_sha256: String,
     /// SHA-256 of the embedded fonts.
     pub fonts_sha256: String,
+    /// The study's earlier looks, from the ledger or from recorded results.
+    pub looks: looks::LookContext,
 }
 
 /// Name and version of this program, as recorded in results.
@@ -45,33 +49,20 @@ pub struct MethodSelection {
     pub primary: &'static Method,
     /// Methods shown beside it, for information only.
     pub compare: Vec<&'static Method>,
+    /// Compare methods asked for but not valid here, with the reason.
+    pub omitted: Vec<OmittedMethod>,
 }
 
-/// Refuse what this version cannot analyse, with a located message, before any computation.
+/// Refuse what the spec asks for but cannot be honoured, with a located message, before any
+/// computation.
 fn require_supported(spec: &Spec) -> Result<(), SpecError> {
-    if spec.dependence.model != spec::DependenceModel::Independent {
+    if matches!(
+        spec.dependence.model,
+        spec::DependenceModel::Clustered | spec::DependenceModel::MDependent
+    ) {
         return Err(spec.error_at(
             "dependence.model",
-            "only `independent` trials are analysed by this version of surety",
-            Some("clustered, martingale and m-dependent models need per-trial data".into()),
-        ));
-    }
-    if spec.looks.mode != spec::LookMode::Planned || spec.looks.planned != 1 {
-        let key = if spec.looks.mode != spec::LookMode::Planned {
-            "looks.mode"
-        } else {
-            "looks.planned"
-        };
-        return Err(spec.error_at(
-            key,
-            "this version of surety analyses a single planned look only",
-            Some("remove the `looks` section, or set `mode: planned` and `planned: 1`".into()),
-        ));
-    }
-    if spec.looks.ledger.is_some() {
-        return Err(spec.error_at(
-            "looks.ledger",
-            "the look ledger is not supported by this version of surety",
+            "clustered and m-dependent trials are not analysed by this build yet",
             None,
         ));
     }
@@ -100,19 +91,54 @@ fn require_supported(spec: &Spec) -> Result<(), SpecError> {
     Ok(())
 }
 
-/// Resolve `method.primary` (`auto` or an id) and `method.compare` against the catalogue.
+/// Resolve `method.primary` (`auto` or an id) and `method.compare` against the catalogue, for
+/// the spec's outcome, dependence model and look mode.
 ///
 /// `auto` depends on the spec alone, never on the data, so choosing it costs no confidence.
+/// A primary method the model or look mode rules out is an error that says which methods are
+/// valid; such a compare method is left out with a note.
 pub fn select_methods(spec: &Spec) -> Result<MethodSelection, SpecError> {
-    let outcome = outcome_kind(spec);
-    let dependence = bounds::Dependence::Independent;
+    let outcome = dependence::analysed_outcome(spec);
+    let model = dependence::catalogue_model(spec);
+    let anytime = spec.looks.mode == spec::LookMode::Anytime;
     let outcome_words = match outcome {
         bounds::OutcomeKind::Binary => "binary outcomes",
         bounds::OutcomeKind::Bounded => "bounded outcomes",
     };
+    let context_words = format!(
+        "{outcome_words} {}{}",
+        dependence::words(spec),
+        if anytime { " looked at any time" } else { "" }
+    );
+    let fits = |m: &Method| {
+        m.valid_for(outcome, model) && (!anytime || m.guarantee == bounds::Guarantee::Anytime)
+    };
+    let valid_ids = || -> String {
+        let valid: Vec<&str> = bounds::CATALOGUE
+            .iter()
+            .filter(|m| fits(m))
+            .map(|m| m.id)
+            .collect();
+        if valid.is_empty() {
+            "no method is valid here".to_string()
+        } else {
+            format!("valid methods here: {}", valid.join(", "))
+        }
+    };
+    let why_not = |m: &Method| -> String {
+        if !m.outcomes.contains(&outcome) {
+            format!("not valid for {outcome_words}")
+        } else if !m.dependence.contains(&model) {
+            format!("not valid {}", dependence::words(spec))
+        } else {
+            "valid only at a number of trials fixed in advance, not when looking at any time \
+             (looks.mode: anytime)"
+                .to_string()
+        }
+    };
     let ids: Vec<&str> = bounds::CATALOGUE.iter().map(|m| m.id).collect();
     let lookup = |key: &str, id: &str| -> Result<&'static Method, SpecError> {
-        let method = bounds::find(id).ok_or_else(|| {
+        bounds::find(id).ok_or_else(|| {
             spec.error_at(
                 key,
                 format!("`{id}` is not a method surety knows"),
@@ -124,28 +150,42 @@ pub fn select_methods(spec: &Spec) -> Result<MethodSelection, SpecError> {
                     ids.join(", ")
                 )),
             )
-        })?;
-        if !method.valid_for(outcome, dependence) {
-            let valid: Vec<&str> = bounds::CATALOGUE
-                .iter()
-                .filter(|m| m.valid_for(outcome, dependence))
-                .map(|m| m.id)
-                .collect();
-            return Err(spec.error_at(
-                key,
-                format!("`{id}` is not valid for {outcome_words} from independent trials"),
-                Some(format!("valid methods here: {}", valid.join(", "))),
-            ));
-        }
-        Ok(method)
+        })
     };
-    let primary = if spec.method.primary == "auto" {
+    let (primary, key) = if spec.method.primary == "auto" {
         let id = auto_method(spec);
-        bounds::find(id).expect("the auto rule names catalogue methods")
+        (
+            bounds::find(id).expect("the auto rule names catalogue methods"),
+            "method.primary",
+        )
     } else {
-        lookup("method.primary", &spec.method.primary)?
+        (
+            lookup("method.primary", &spec.method.primary)?,
+            "method.primary",
+        )
     };
+    if !fits(primary) {
+        let key = if spec.method.primary == "auto" {
+            if anytime {
+                "looks.mode"
+            } else {
+                "dependence.model"
+            }
+        } else {
+            key
+        };
+        return Err(spec.error_at(
+            key,
+            format!(
+                "`{}` cannot be the primary method for {context_words}: it is {}",
+                primary.id,
+                why_not(primary)
+            ),
+            Some(valid_ids()),
+        ));
+    }
     let mut compare: Vec<&'static Method> = Vec::new();
+    let mut omitted = Vec::new();
     for (i, id) in spec.method.compare.iter().enumerate() {
         let key = format!("method.compare[{i}]");
         let method = lookup(&key, id)?;
@@ -156,15 +196,26 @@ pub fn select_methods(spec: &Spec) -> Result<MethodSelection, SpecError> {
                 None,
             ));
         }
-        compare.push(method);
+        if fits(method) {
+            compare.push(method);
+        } else {
+            omitted.push(OmittedMethod {
+                method: method.id.to_string(),
+                reason: why_not(method),
+            });
+        }
     }
     if spec.method.compare.is_empty() {
         compare = bounds::CATALOGUE
             .iter()
-            .filter(|m| m.id != primary.id && m.valid_for(outcome, dependence))
+            .filter(|m| m.id != primary.id && fits(m))
             .collect();
     }
-    Ok(MethodSelection { primary, compare })
+    Ok(MethodSelection {
+        primary,
+        compare,
+        omitted,
+    })
 }
 
 fn side_id(side: Side) -> &'static str {
@@ -268,25 +319,28 @@ impl Scale {
     }
 }
 
-/// The outcome kind of the spec, as the catalogue names it.
-fn outcome_kind(spec: &Spec) -> bounds::OutcomeKind {
-    match spec.outcome.kind {
-        spec::OutcomeKind::Binary => bounds::OutcomeKind::Binary,
-        spec::OutcomeKind::Bounded => bounds::OutcomeKind::Bounded,
-    }
-}
-
-/// The `auto` primary method (DESIGN.md §5), decided from the spec alone: for bounded values
-/// given only as n, mean and sd — visible in the spec — betting cannot run, and the empirical
-/// Bernstein bound, which needs exactly those, is used instead.
+/// The `auto` primary method (DESIGN.md §5), decided from the spec alone: binary → exact
+/// (fixed looks) or the beta-binomial mixture (anytime); bounded → betting or the betting
+/// sequence; m-dependent → Hoeffding in Janson's form; clustered → betting (or the betting
+/// sequence) on the cluster means. For bounded values given only as n, mean and sd — visible
+/// in the spec — betting cannot run: the empirical Bernstein bound, which needs exactly those,
+/// is used instead (Chernoff-kl under the martingale model, where that bound is not valid).
 fn auto_method(spec: &Spec) -> &'static str {
-    match (spec.outcome.kind, &spec.data.source) {
-        (spec::OutcomeKind::Binary, _) => "exact",
-        (
-            spec::OutcomeKind::Bounded,
-            spec::DataSource::Summary(_) | spec::DataSource::ArmSummaries(_),
-        ) => "bernstein-empirical",
-        (spec::OutcomeKind::Bounded, _) => "betting",
+    use spec::DependenceModel as D;
+    let anytime = spec.looks.mode == spec::LookMode::Anytime;
+    let summary = matches!(
+        spec.data.source,
+        spec::DataSource::Summary(_) | spec::DataSource::ArmSummaries(_)
+    );
+    match (spec.dependence.model, spec.outcome.kind) {
+        (D::MDependent, _) => "hoeffding",
+        (D::Clustered, _) | (_, spec::OutcomeKind::Bounded) if anytime => "betting-sequence",
+        (D::Clustered, _) => "betting",
+        (_, spec::OutcomeKind::Binary) if anytime => "beta-binomial-mixture",
+        (_, spec::OutcomeKind::Binary) => "exact",
+        (D::Martingale, spec::OutcomeKind::Bounded) if summary => "chernoff-kl",
+        (_, spec::OutcomeKind::Bounded) if summary => "bernstein-empirical",
+        (_, spec::OutcomeKind::Bounded) => "betting",
     }
 }
 
@@ -529,10 +583,92 @@ fn registration_item(spec: &Spec) -> (ChecklistItem, Option<String>) {
     )
 }
 
+/// How this look's bound combines with earlier ones, in words.
+fn looks_rule(primary: &Method, spec: &Spec, combined: usize) -> String {
+    let with = match combined {
+        0 => "no earlier look is combined with it".to_string(),
+        1 => "it is intersected with the bound of 1 earlier look".to_string(),
+        c => format!("it is intersected with the bounds of {c} earlier looks"),
+    };
+    match primary.guarantee {
+        bounds::Guarantee::FixedN if spec.looks.planned > 1 => format!(
+            "fixed-n method over {} planned looks: each look spends its share of δ, and the \
+             reported bound is the tightest over the looks so far (a union bound covers them \
+             all); {with}",
+            spec.looks.planned
+        ),
+        bounds::Guarantee::FixedN => {
+            format!("fixed-n method, one planned look: the whole δ is spent on it; {with}")
+        }
+        bounds::Guarantee::Anytime => format!(
+            "confidence sequence: valid at every number of trials at once, so looking again \
+             spends nothing; {with}"
+        ),
+    }
+}
+
+/// The checklist item on whether this look is one the ledger records.
+fn looks_item(spec: &Spec, lc: &looks::LookContext, primary: &Method) -> ChecklistItem {
+    let a = bounds::assumption("looks-recorded").expect("catalogued assumption");
+    let file = lc.ledger.file.as_deref().unwrap_or("the ledger");
+    let of = match primary.guarantee {
+        bounds::Guarantee::FixedN => format!(" of {} planned", spec.looks.planned),
+        bounds::Guarantee::Anytime => String::new(),
+    };
+    let (status, evidence) = match lc.ledger.status.as_str() {
+        "registered" => (
+            "checked",
+            format!(
+                "look {}{of}, recorded in {file}; the chain of {} earlier look{} was verified",
+                lc.look,
+                lc.earlier.len(),
+                if lc.earlier.len() == 1 { "" } else { "s" }
+            ),
+        ),
+        "re-issue" => (
+            "checked",
+            format!(
+                "a re-issue of look {}{of} recorded in {file}: same inputs and claim, \
+                 nothing further spent",
+                lc.look
+            ),
+        ),
+        _ => (
+            "open",
+            "not a registered look: run without a ledger (--no-ledger), for exploration only"
+                .to_string(),
+        ),
+    };
+    ChecklistItem {
+        id: a.id.to_string(),
+        text: a.text.to_string(),
+        status: status.to_string(),
+        evidence: Some(evidence),
+        by: None,
+        date: None,
+        consequence: a.consequence.to_string(),
+    }
+}
+
 fn checklist(spec: &Spec, primary: &Method, arms: &[Arm]) -> Vec<ChecklistItem> {
-    primary
-        .assumptions
-        .iter()
+    let model_id = dependence::assumption_id(spec);
+    let mut ids: Vec<&str> = Vec::new();
+    for &id in primary.assumptions {
+        // The declared model replaces the independence the method states for trials: it is
+        // what the analysis actually relied on.
+        let id = if id == "independent-trials" {
+            model_id
+        } else {
+            id
+        };
+        if !ids.contains(&id) {
+            ids.push(id);
+        }
+    }
+    if !ids.contains(&model_id) {
+        ids.insert(0, model_id);
+    }
+    ids.iter()
         .filter_map(|id| bounds::assumption(id))
         .map(|a| {
             let mut item = ChecklistItem {
@@ -555,7 +691,7 @@ fn checklist(spec: &Spec, primary: &Method, arms: &[Arm]) -> Vec<ChecklistItem> 
                 item.by = Some(att.by.clone());
                 item.date = att.date.as_ref().map(|d| d.to_string());
                 item.evidence = att.note.clone();
-            } else if a.id == "independent-trials" {
+            } else if a.id == model_id {
                 item.evidence = spec
                     .dependence
                     .rationale
@@ -827,10 +963,84 @@ pub fn analyse(spec: &Spec, data: &Dataset, ctx: &Context) -> Result<Analysis, S
         return Err(spec.error_at("data", "the data hold no trials", None));
     }
     let k = arms.len() as u64;
+    let primary = selection.primary;
+    let lc = &ctx.looks;
+
+    // The look's share of δ: fixed-n looks spend from the plan, a method valid at any time
+    // spends nothing but cannot use what earlier fixed-n looks already spent.
+    let spent_before = lc.spent_before();
+    let mut divisions = Vec::new();
+    let look_share = match primary.guarantee {
+        bounds::Guarantee::FixedN => {
+            let Some(share) = spec.looks.share(lc.look) else {
+                return Err(spec.error_at(
+                    "looks.planned",
+                    format!(
+                        "this would be look {} of a study planned for {} look{}: `{}` is a \
+                         fixed-n method, and a look beyond the plan has no δ left to spend",
+                        lc.look,
+                        spec.looks.planned,
+                        if spec.looks.planned == 1 { "" } else { "s" },
+                        primary.id
+                    ),
+                    Some(
+                        "an open-ended study needs `looks.mode: anytime` and a method valid at \
+                         any time (see `surety methods`); planning more looks now, after \
+                         seeing the data, would not be honest. Rerunning the same inputs and \
+                         claim re-issues a recorded look, and `--no-ledger` explores without \
+                         registering a look"
+                            .to_string(),
+                    ),
+                ));
+            };
+            if spec.looks.planned > 1 {
+                divisions.push(Division::Look {
+                    look: lc.look,
+                    planned: spec.looks.planned,
+                    share,
+                    equal: spec.looks.spending == spec::Spending::Equal,
+                });
+            }
+            Some(share)
+        }
+        bounds::Guarantee::Anytime => {
+            if spent_before >= claim_spec.delta * (1.0 - 1e-12) {
+                return Err(spec.error_at(
+                    "looks.mode",
+                    "earlier fixed-n looks have spent the whole error budget δ: no confidence \
+                     is left for a confidence sequence",
+                    Some("start a new study with its own ledger (`--new-ledger`)".to_string()),
+                ));
+            }
+            if spent_before > 0.0 {
+                divisions.push(Division::Spent {
+                    spent: spent_before,
+                    delta: claim_spec.delta,
+                });
+            }
+            None
+        }
+    };
+    let look_delta = match look_share {
+        Some(share) if spec.looks.planned > 1 => claim_spec.delta * share,
+        Some(_) => claim_spec.delta,
+        None => claim_spec.delta - spent_before,
+    };
+    let registered = lc.ledger.status != "not-registered";
+    let look_spent = if look_share.is_some() && registered {
+        look_delta
+    } else {
+        0.0
+    };
+    let earlier: Vec<&LookRecord> = lc
+        .earlier
+        .iter()
+        .filter(|r| looks::combinable(r, primary, look_delta))
+        .collect();
 
     // A method the data cannot feed: the primary is an error (it is the guarantee), a compare
     // method is left out with a note saying what it would have needed.
-    let mut omitted = Vec::new();
+    let mut omitted = std::mem::take(&mut selection.omitted);
     if let Some(arm) = arms.iter().find(|a| !computable(selection.primary, a)) {
         return Err(spec.error_at(
             "method.primary",
@@ -858,7 +1068,6 @@ pub fn analyse(spec: &Spec, data: &Dataset, ctx: &Context) -> Result<Analysis, S
         ok
     });
 
-    let mut divisions = Vec::new();
     if k > 1 {
         match claim_spec.scope {
             spec::Scope::All => divisions.push(Division::AllArms(k)),
@@ -904,10 +1113,37 @@ pub fn analyse(spec: &Spec, data: &Dataset, ctx: &Context) -> Result<Analysis, S
     };
 
     let mut warnings = Vec::new();
+    let mut shrunk = Vec::new();
+    let mut own_bounds = Vec::new();
     let arm_results: Vec<ArmResult> = arms
         .iter()
         .map(|arm| {
-            let primary = bound_result(selection.primary, arm, per_bound, side, true, &scale);
+            let own = bound_result(primary, arm, per_bound, side, true, &scale);
+            let (lower, upper) = looks::intersect((own.lower, own.upper), &arm.name, &earlier);
+            if let Some(before) = looks::shrunk(&lc.earlier, &arm.name, arm.n) {
+                shrunk.push(format!(
+                    "arm {}: {} trials now, {} at the look before: the data of successive \
+                     looks should only grow",
+                    arm.name,
+                    display::count(arm.n),
+                    display::count(before.n)
+                ));
+            }
+            own_bounds.push(LookArm {
+                name: arm.name.clone(),
+                n: arm.n,
+                upper: own.upper,
+                lower: own.lower,
+            });
+            let primary = BoundResult {
+                display: BoundDisplay {
+                    upper: upper.map(|u| scale.show(u, Rounding::Up)),
+                    lower: lower.map(|l| scale.show(l, Rounding::Down)),
+                },
+                upper,
+                lower,
+                ..own
+            };
             let compare = selection
                 .compare
                 .iter()
@@ -968,6 +1204,8 @@ pub fn analyse(spec: &Spec, data: &Dataset, ctx: &Context) -> Result<Analysis, S
                 verdict: v,
                 curve: curve(selection.primary, arm, per_bound, side),
                 values,
+                nominal: None,
+                path: None,
                 display: ArmDisplay {
                     mean: scale.show(mean, Rounding::Nearest),
                     n: display::count(arm.n),
@@ -997,6 +1235,7 @@ pub fn analyse(spec: &Spec, data: &Dataset, ctx: &Context) -> Result<Analysis, S
         None => worst(arm_results.iter().map(|a| a.verdict)),
     };
 
+    warnings.append(&mut shrunk);
     for arm in &arm_results {
         let prefix = if arm_results.len() > 1 {
             format!("arm {}: ", arm.name)
@@ -1106,7 +1345,7 @@ pub fn analyse(spec: &Spec, data: &Dataset, ctx: &Context) -> Result<Analysis, S
                 k
             },
             looks_planned: spec.looks.planned,
-            look: 1,
+            look: lc.look,
             sides: if divisions.contains(&Division::TwoSides) {
                 2
             } else {
@@ -1119,7 +1358,41 @@ pub fn analyse(spec: &Spec, data: &Dataset, ctx: &Context) -> Result<Analysis, S
         checklist: {
             let mut items = checklist(spec, selection.primary, arms);
             items.push(registration);
+            items.push(looks_item(spec, lc, primary));
             items
+        },
+        dependence: dependence::info(spec, scale.range.is_none()),
+        looks: {
+            let mut history = lc.earlier.clone();
+            history.push(LookRecord {
+                look: lc.look,
+                time: None,
+                method: primary.id.to_string(),
+                guarantee: primary.guarantee.id().to_string(),
+                delta: look_delta,
+                spent: look_spent,
+                verdict: overall,
+                arms: own_bounds,
+            });
+            let total = spent_before + look_spent;
+            LooksInfo {
+                mode: match spec.looks.mode {
+                    spec::LookMode::Planned => "planned",
+                    spec::LookMode::Anytime => "anytime",
+                }
+                .to_string(),
+                planned: spec.looks.planned,
+                look: lc.look,
+                ledger: lc.ledger.clone(),
+                history,
+                delta_spent: look_spent,
+                delta_spent_total: total,
+                rule: looks_rule(primary, spec, earlier.len()),
+                display: LooksDisplay {
+                    delta_spent: display::probability(look_spent),
+                    delta_spent_total: display::probability(total),
+                },
+            }
         },
         signatures: spec
             .signatures
@@ -1208,6 +1481,7 @@ mod tests {
             spec_sha256: String::new(),
             template_sha256: String::new(),
             fonts_sha256: String::new(),
+            looks: crate::analysis::looks::LookContext::unregistered(),
         }
     }
 

@@ -44,9 +44,14 @@ pub struct Analysis {
     /// The sample-size rationale from the spec's `plan` section, when it has one.
     #[serde(default)]
     pub plan: Option<crate::plan::PlanResults>,
-    /// Compare methods the data could not feed, and why.
+    /// Compare methods the data could not feed, or that the dependence model or look mode
+    /// rules out, and why.
     #[serde(default)]
     pub omitted_methods: Vec<OmittedMethod>,
+    /// The dependence model the bounds rest on.
+    pub dependence: DependenceInfo,
+    /// Where this look sits among the study's looks, and what the ledger says about them.
+    pub looks: LooksInfo,
     /// Remarks about this particular analysis (for example a vacuous bound).
     pub warnings: Vec<String>,
     /// Hashes that bind this result to its inputs.
@@ -159,7 +164,134 @@ pub struct ArmResult {
     pub curve: Option<Curve>,
     /// Spread and range of the values (bounded outcomes).
     pub values: Option<ValueSummary>,
+    /// For clustered data: the trials behind the `n` cluster means.
+    #[serde(default)]
+    pub nominal: Option<NominalInfo>,
+    /// For an anytime primary method on ordered data: its running bound over the trials.
+    #[serde(default)]
+    pub path: Option<BoundPath>,
     pub display: ArmDisplay,
+}
+
+/// Trials behind the cluster means of a clustered analysis.
+#[derive(Debug, Clone, Serialize, Deserialize)]
+pub struct NominalInfo {
+    /// Number of trials (rows) in the arm.
+    pub trials: u64,
+    /// Number of events among them (binary outcomes).
+    pub events: Option<u64>,
+    /// Number of clusters: the effective sample size.
+    pub clusters: u64,
+    pub smallest_cluster: u64,
+    pub largest_cluster: u64,
+    pub display: NominalDisplay,
+}
+
+/// Printed forms of [`NominalInfo`].
+#[derive(Debug, Clone, Serialize, Deserialize)]
+pub struct NominalDisplay {
+    pub trials: String,
+    pub clusters: String,
+    /// Trials per cluster on average, to one decimal.
+    pub per_cluster: String,
+}
+
+/// An anytime bound drawn over the cumulative number of trials, in data units.
+#[derive(Debug, Clone, Serialize, Deserialize)]
+pub struct BoundPath {
+    /// `upper` or `lower`: which bound is drawn.
+    pub bound: String,
+    /// `[trials, bound]`, the running bound after that many trials.
+    pub points: Vec<[f64; 2]>,
+    /// `[trials, bound]` at each recorded look of this arm, this look last.
+    pub looks: Vec<[f64; 2]>,
+}
+
+/// The dependence model between trials, as declared and as applied.
+#[derive(Debug, Clone, Serialize, Deserialize)]
+pub struct DependenceInfo {
+    /// `independent`, `martingale`, `clustered` or `m-dependent`.
+    pub model: String,
+    /// The dependence distance (m-dependent only).
+    pub m: Option<u64>,
+    /// The spec's rationale for the model, as written.
+    pub rationale: Option<String>,
+    /// What the bounds are about under this model, in words.
+    pub estimand: String,
+    /// How the model entered the computation, in words.
+    pub treatment: String,
+}
+
+/// The look this analysis is, the looks before it, and how δ was spent over them.
+#[derive(Debug, Clone, Serialize, Deserialize)]
+pub struct LooksInfo {
+    /// `planned` or `anytime`.
+    pub mode: String,
+    /// Number of planned looks.
+    pub planned: u32,
+    /// This look's number (a re-issue carries the number of the look it re-issues).
+    pub look: u32,
+    /// The ledger's part in this look.
+    pub ledger: LedgerInfo,
+    /// Every recorded look up to and including this one, oldest first.
+    pub history: Vec<LookRecord>,
+    /// The share of the claim's δ this look spent (0 for a method valid at any time).
+    pub delta_spent: f64,
+    /// δ spent by all looks up to and including this one.
+    pub delta_spent_total: f64,
+    /// How the bound of this look combines with earlier ones, in words.
+    pub rule: String,
+    pub display: LooksDisplay,
+}
+
+/// Printed forms of [`LooksInfo`].
+#[derive(Debug, Clone, Serialize, Deserialize)]
+pub struct LooksDisplay {
+    pub delta_spent: String,
+    pub delta_spent_total: String,
+}
+
+/// What the look ledger recorded about this look.
+#[derive(Debug, Clone, Serialize, Deserialize)]
+pub struct LedgerInfo {
+    /// `registered` (a new look was recorded), `re-issue` (the same inputs and claim as a look
+    /// already recorded; nothing further spent) or `not-registered` (run with `--no-ledger`).
+    pub status: String,
+    /// The ledger's file name (beside the spec), when one was used.
+    pub file: Option<String>,
+    /// SHA-256 of the ledger's last line before this look: the chain this look extends.
+    pub previous: Option<String>,
+    /// Why a new ledger was started, when this look began one with `--new-ledger`.
+    pub new_ledger: Option<String>,
+}
+
+/// One recorded look, as the ledger holds it.
+#[derive(Debug, Clone, Serialize, Deserialize)]
+pub struct LookRecord {
+    pub look: u32,
+    /// When the look was recorded (RFC 3339, UTC); none for this look, which is dated by the
+    /// report.
+    pub time: Option<String>,
+    /// Primary method id.
+    pub method: String,
+    /// `fixed-n` or `anytime`: the primary method's guarantee.
+    pub guarantee: String,
+    /// The budget this look's bounds were computed at, before any division by arms or sides.
+    pub delta: f64,
+    /// The part of the claim's δ this look used up (0 for a method valid at any time, and for a
+    /// look that was not registered).
+    pub spent: f64,
+    pub verdict: Verdict,
+    pub arms: Vec<LookArm>,
+}
+
+/// One arm at one look: its size and its own primary bounds (data units).
+#[derive(Debug, Clone, Serialize, Deserialize)]
+pub struct LookArm {
+    pub name: String,
+    pub n: u64,
+    pub upper: Option<f64>,
+    pub lower: Option<f64>,
 }
 
 /// Spread and range of one arm's bounded values, in data units.
@@ -245,7 +377,7 @@ pub struct Adjustments {
     /// Number of arms sharing the budget (1 for scope `each`).
     pub arms: u64,
     pub looks_planned: u32,
-    /// Which look this analysis is (1 until the look ledger exists).
+    /// Which look this analysis is.
     pub look: u32,
     /// 2 for a two-sided claim with a method not built two-sided, else 1.
     pub sides: u32,

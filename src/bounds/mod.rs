@@ -235,6 +235,30 @@ pub static ASSUMPTIONS: &[Assumption] = &[
                       result pass; the stated false-pass risk then no longer holds.",
         confirmation: Confirmation::Data,
     },
+    Assumption {
+        id: "independent-clusters",
+        text: "The clusters named in the cluster column are independent of each other: no \
+               fixture, lot, operator or other shared cause links two clusters, and every \
+               trial belongs to exactly one cluster.",
+        consequence: "Clusters that share a cause carry less information than their number \
+                      suggests; the bound can then be too narrow.",
+        confirmation: Confirmation::Attestation,
+    },
+    Assumption {
+        id: "m-dependent-trials",
+        text: "In run order, trials more than m apart are independent of each other, and m \
+               was fixed before the data were seen.",
+        consequence: "Dependence reaching further than m trials makes the bound too narrow.",
+        confirmation: Confirmation::Attestation,
+    },
+    Assumption {
+        id: "looks-recorded",
+        text: "Every analysis of these data is recorded as a look in the study's ledger, and \
+               δ is spent over the looks as planned.",
+        consequence: "Unrecorded looks are unpaid for: stopping at a look that happened to \
+                      pass raises the false-pass risk above δ.",
+        confirmation: Confirmation::Data,
+    },
 ];
 
 /// The methods, in the order `surety methods` lists them.
