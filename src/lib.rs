@@ -11,6 +11,7 @@ pub mod bounds;
 pub mod cli;
 pub mod data;
 pub mod error;
+pub mod ledger;
 pub mod output;
 pub mod plan;
 pub mod provenance;
