@@ -29,6 +29,12 @@ pub enum Error {
     },
     /// The report could not be rendered.
     Report(ReportError),
+    /// The study's look ledger is damaged or could not be updated (`path:line:column` when
+    /// the problem is on one line).
+    Ledger {
+        path: String,
+        error: crate::ledger::LedgerError,
+    },
 }
 
 impl Error {
@@ -40,7 +46,7 @@ impl Error {
             | Error::Date(_)
             | Error::Usage(_)
             | Error::Read { .. } => 2,
-            Error::Write { .. } => 2,
+            Error::Write { .. } | Error::Ledger { .. } => 2,
             Error::Report(e) if e.is_user_error() => 2,
             Error::Report(_) => 4,
         }
@@ -59,6 +65,16 @@ impl fmt::Display for Error {
                 write!(f, "cannot write {path}: {source} (nothing was written)")
             }
             Error::Report(e) => write!(f, "{e}"),
+            Error::Ledger { path, error } => {
+                write!(f, "{path}")?;
+                if let Some(line) = error.line {
+                    write!(f, ":{line}")?;
+                    if let Some(column) = error.column {
+                        write!(f, ":{column}")?;
+                    }
+                }
+                write!(f, ": {}", error.message)
+            }
         }
     }
 }

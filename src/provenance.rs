@@ -123,6 +123,18 @@ pub fn resolve_date(
     })
 }
 
+/// A Unix time as RFC 3339 in UTC, to the second: `2026-12-02T09:30:00Z`.
+pub fn utc_timestamp(seconds: i64) -> String {
+    let (y, m, d) = civil_from_unix(seconds);
+    let s = seconds.rem_euclid(86_400);
+    format!(
+        "{y:04}-{m:02}-{d:02}T{:02}:{:02}:{:02}Z",
+        s / 3600,
+        s / 60 % 60,
+        s % 60
+    )
+}
+
 /// UTC calendar date of a Unix time, by counting 400-year eras of 146 097 days.
 pub fn civil_from_unix(seconds: i64) -> (i32, u8, u8) {
     let days = seconds.div_euclid(86_400);
@@ -185,9 +197,60 @@ pub fn criteria_sha256(spec: &crate::spec::Spec) -> String {
     sha256_hex(value.to_string().as_bytes())
 }
 
+/// SHA-256 identifying a look: the claim's numbers, the outcome, the dependence model, the
+/// look plan, the primary method and the data (inline counts or summaries as written, or the
+/// digest of every data file and the columns read). Two runs with the same key analyse the
+/// same data the same way, so the second is a re-issue of the first; a change of wording
+/// (title, quantity, notes) leaves the key alone.
+pub fn look_key(
+    spec: &crate::spec::Spec,
+    primary: &str,
+    inputs: &[crate::data::FileInput],
+) -> String {
+    let c = &spec.claim;
+    let data = match &spec.data.source {
+        crate::spec::DataSource::File(_) => serde_json::json!({
+            "files": inputs.iter().map(|f| f.sha256.clone()).collect::<Vec<_>>(),
+            "column": spec.data.column,
+            "arm_column": spec.data.arm_column,
+            "cluster_column": spec.data.cluster_column,
+            "order_column": spec.data.order_column,
+        }),
+        other => serde_json::to_value(other).unwrap_or(serde_json::Value::Null),
+    };
+    let value = serde_json::json!({
+        "format": "surety-look-key/1",
+        "claim": {
+            "side": serde_json::to_value(c.side).unwrap_or_default(),
+            "limit": c.limit,
+            "confidence": c.confidence_text,
+            "scope": serde_json::to_value(c.scope).unwrap_or_default(),
+        },
+        "outcome": {
+            "type": serde_json::to_value(spec.outcome.kind).unwrap_or_default(),
+            "range": spec.outcome.range,
+        },
+        "dependence": {
+            "model": serde_json::to_value(spec.dependence.model).unwrap_or_default(),
+            "m": spec.dependence.m,
+        },
+        "looks": serde_json::to_value(&spec.looks).unwrap_or_default(),
+        "method": primary,
+        "data": data,
+    });
+    sha256_hex(value.to_string().as_bytes())
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    // 1e9 s after the Unix epoch is 2001-09-09 01:46:40 UTC (common practice: the "billennium").
+    #[test]
+    fn timestamps_are_rfc3339_utc() {
+        assert_eq!(utc_timestamp(1_000_000_000), "2001-09-09T01:46:40Z");
+        assert_eq!(utc_timestamp(0), "1970-01-01T00:00:00Z");
+    }
 
     // FIPS 180-4 / NIST example vector: SHA-256("abc").
     #[test]

@@ -2,7 +2,10 @@
 //! PDF in memory. Writing the files is left to the caller, so nothing is written unless
 //! everything succeeded.
 
+use crate::analysis::looks::LookContext;
+use crate::analysis::model::{LedgerInfo, LookArm, LookRecord, Verdict};
 use crate::analysis::{self, Context, model::Analysis};
+use crate::ledger::{self, Entry, EntryKind, Ledger, LockedLedger};
 use crate::error::Error;
 use crate::provenance::{self, ReportDate, sha256_hex};
 use crate::report;
@@ -20,7 +23,7 @@ pub struct Environment {
 }
 
 /// A loaded and analysed study, before rendering.
-#[derive(Debug, Clone)]
+#[derive(Debug)]
 pub struct Prepared {
     /// The validated spec.
     pub spec: Spec,
@@ -34,6 +37,131 @@ pub struct Prepared {
     pub analysis: Analysis,
     /// Data files to attach to the report (path as recorded, bytes), per `report.embed_data`.
     pub embedded: Vec<(String, Vec<u8>)>,
+    /// The ledger line this run will append once its outputs exist, with the ledger held
+    /// locked until then.
+    pub pending: Option<PendingLook>,
+}
+
+/// How a run treats the study's look ledger.
+#[derive(Debug, Clone, PartialEq, Eq)]
+pub enum LedgerUse {
+    /// Verify the ledger and record this run as a look (or a re-issue of one).
+    Record {
+        /// When the run happens (RFC 3339, UTC), written on the ledger line.
+        time: String,
+    },
+    /// `--new-ledger`: set the existing ledger aside, unread, and start a new one with this
+    /// run as look 1.
+    StartNew {
+        /// When the run happens (RFC 3339, UTC).
+        time: String,
+    },
+    /// Read and verify the ledger if there is one, but write nothing (`surety check`).
+    Peek,
+    /// `--no-ledger`: do not touch the ledger; the result is not a registered look.
+    Skip,
+}
+
+/// Where the looks before this one are known from.
+#[derive(Debug, Clone)]
+pub enum LookSource {
+    /// The study's ledger (a new run).
+    Ledger(LedgerUse),
+    /// The recorded results of a report (a recomputation by `surety verify`).
+    Recorded(LookContext),
+}
+
+/// A ledger line waiting to be appended, and the lock that keeps other runs out until then.
+#[derive(Debug)]
+pub struct PendingLook {
+    ledger: LockedLedger,
+    state: Ledger,
+    /// The first line of a new ledger, when this run starts one.
+    new_ledger: Option<Entry>,
+    /// The look or re-issue line, without its results digest.
+    entry: Entry,
+}
+
+/// The ledger file of a study: `looks.ledger` relative to the spec, else
+/// `<spec stem>.ledger.jsonl` beside it.
+pub fn ledger_path(spec: &Spec, spec_path: &Path) -> PathBuf {
+    let base = spec_path.parent().unwrap_or_else(|| Path::new(""));
+    match &spec.looks.ledger {
+        Some(p) => base.join(p),
+        None => {
+            let stem = spec_path
+                .file_stem()
+                .map(|s| s.to_string_lossy().to_string())
+                .unwrap_or_else(|| "study".to_string());
+            base.join(format!("{stem}.ledger.jsonl"))
+        }
+    }
+}
+
+fn ledger_error(path: &Path, error: ledger::LedgerError) -> Error {
+    Error::Ledger {
+        path: path.display().to_string(),
+        error,
+    }
+}
+
+fn record_of(e: &Entry) -> LookRecord {
+    LookRecord {
+        look: e.look,
+        time: Some(e.time.clone()),
+        method: e.method.clone(),
+        guarantee: e.guarantee.clone(),
+        delta: e.delta,
+        spent: e.delta_spent,
+        verdict: match e.verdict.as_str() {
+            "pass" => Verdict::Pass,
+            "fail" => Verdict::Fail,
+            _ => Verdict::Inconclusive,
+        },
+        arms: e
+            .arms
+            .iter()
+            .map(|a| LookArm {
+                name: a.name.clone(),
+                n: a.n,
+                upper: a.upper,
+                lower: a.lower,
+            })
+            .collect(),
+    }
+}
+
+/// The look context a verified ledger gives a run with look key `key`: a re-issue of the look
+/// with that key, or the next look.
+fn context_from(state: &Ledger, key: &str, file: &str, status_new: &str) -> LookContext {
+    let looks = state.looks();
+    let previous = Some(state.head());
+    match state.find_key(key) {
+        Some(e) => LookContext {
+            look: e.look,
+            earlier: looks
+                .iter()
+                .filter(|l| l.look < e.look)
+                .map(|l| record_of(l))
+                .collect(),
+            ledger: LedgerInfo {
+                status: "re-issue".to_string(),
+                file: Some(file.to_string()),
+                previous,
+                new_ledger: None,
+            },
+        },
+        None => LookContext {
+            look: state.next_look(),
+            earlier: looks.iter().map(|l| record_of(l)).collect(),
+            ledger: LedgerInfo {
+                status: status_new.to_string(),
+                file: Some(file.to_string()),
+                previous,
+                new_ledger: None,
+            },
+        },
+    }
 }
 
 /// The rendered outputs of a study.
@@ -103,6 +231,7 @@ pub enum DateRule {
 pub fn prepare(
     path: &Path,
     env: &Environment,
+    ledger_use: LedgerUse,
     progress: &mut dyn FnMut(u64, u64),
 ) -> Result<Prepared, Error> {
     let (spec, spec_bytes) = load_spec(path)?;
@@ -118,6 +247,7 @@ pub fn prepare(
         &spec_name,
         &base,
         &DateRule::Resolve(env.clone()),
+        LookSource::Ledger(ledger_use),
         progress,
     )
 }
@@ -131,6 +261,7 @@ pub fn analyse_loaded(
     spec_name: &str,
     base: &Path,
     date_rule: &DateRule,
+    looks: LookSource,
     progress: &mut dyn FnMut(u64, u64),
 ) -> Result<Prepared, Error> {
     let template = match &spec.report.template {
@@ -157,15 +288,129 @@ pub fn analyse_loaded(
         )?,
         DateRule::Fixed(date) => *date,
     };
+    let data = load_data(&spec, base, progress)?;
+    let primary = analysis::select_methods(&spec)?.primary;
+    let key = provenance::look_key(&spec, primary.id, &data.inputs);
+    let spec_sha256 = sha256_hex(&spec_bytes);
+    let (look_context, pending) = match looks {
+        LookSource::Recorded(c) => (c, None),
+        LookSource::Ledger(LedgerUse::Skip) => (LookContext::unregistered(), None),
+        LookSource::Ledger(u) => {
+            let path = ledger_path(&spec, &base.join(spec_name));
+            let file = path
+                .file_name()
+                .map(|f| f.to_string_lossy().to_string())
+                .unwrap_or_default();
+            match u {
+                LedgerUse::Peek => {
+                    let state = match fs::read(&path) {
+                        Ok(bytes) => {
+                            Ledger::parse(&bytes).map_err(|e| ledger_error(&path, e))?
+                        }
+                        Err(e) if e.kind() == std::io::ErrorKind::NotFound => Ledger::default(),
+                        Err(source) => {
+                            return Err(Error::Read {
+                                path: path.display().to_string(),
+                                source,
+                            });
+                        }
+                    };
+                    let mut c = context_from(&state, &key, &file, "not-registered");
+                    c.ledger.status = "not-registered".to_string();
+                    (c, None)
+                }
+                LedgerUse::Record { ref time } | LedgerUse::StartNew { ref time } => {
+                    let time = time.clone();
+                    let start_new = matches!(u, LedgerUse::StartNew { .. });
+                    let mut locked = LockedLedger::open(&path).map_err(|e| ledger_error(&path, e))?;
+                    // A new ledger does not read the old one: it may be the damaged file the
+                    // user is leaving behind. It is set aside only when the look is recorded.
+                    let state = if start_new {
+                        Ledger::default()
+                    } else {
+                        locked.read().map_err(|e| ledger_error(&path, e))?
+                    };
+                    let mut c = context_from(&state, &key, &file, "registered");
+                    let new_ledger = start_new.then(|| Entry {
+                        format: ledger::LEDGER_FORMAT.to_string(),
+                        seq: 0,
+                        kind: EntryKind::NewLedger,
+                        look: 0,
+                        time: time.clone(),
+                        key: String::new(),
+                        spec_sha256: spec_sha256.clone(),
+                        inputs: Vec::new(),
+                        arms: Vec::new(),
+                        method: String::new(),
+                        guarantee: String::new(),
+                        delta: 0.0,
+                        verdict: String::new(),
+                        delta_spent: 0.0,
+                        results_sha256: String::new(),
+                        note: Some("started with --new-ledger".to_string()),
+                        prev: String::new(),
+                        hash: String::new(),
+                    });
+                    if start_new {
+                        c.ledger.new_ledger = Some(format!(
+                            "this look started a new ledger (--new-ledger); any earlier {file} \
+                             was kept beside it under another name"
+                        ));
+                    }
+                    let kind = if c.ledger.status == "re-issue" {
+                        EntryKind::ReIssue
+                    } else {
+                        EntryKind::Look
+                    };
+                    let entry = Entry {
+                        format: ledger::LEDGER_FORMAT.to_string(),
+                        seq: 0,
+                        kind,
+                        look: c.look,
+                        time,
+                        key: key.clone(),
+                        spec_sha256: spec_sha256.clone(),
+                        inputs: data
+                            .inputs
+                            .iter()
+                            .map(|f| ledger::InputDigest {
+                                path: f.path.clone(),
+                                sha256: f.sha256.clone(),
+                            })
+                            .collect(),
+                        arms: Vec::new(),
+                        method: primary.id.to_string(),
+                        guarantee: primary.guarantee.id().to_string(),
+                        delta: 0.0,
+                        verdict: String::new(),
+                        delta_spent: 0.0,
+                        results_sha256: String::new(),
+                        note: None,
+                        prev: String::new(),
+                        hash: String::new(),
+                    };
+                    (
+                        c,
+                        Some(PendingLook {
+                            ledger: locked,
+                            state,
+                            new_ledger,
+                            entry,
+                        }),
+                    )
+                }
+                LedgerUse::Skip => unreachable!("handled above"),
+            }
+        }
+    };
     let ctx = Context {
         date,
         spec_name: spec_name.to_string(),
-        spec_sha256: sha256_hex(&spec_bytes),
+        spec_sha256,
         template_sha256: report::template_sha256(template_text),
         fonts_sha256: report::fonts_sha256(),
-        looks: analysis::looks::LookContext::unregistered(),
+        looks: look_context,
     };
-    let data = load_data(&spec, base, progress)?;
     let analysis = analysis::analyse(&spec, &data, &ctx)?;
     let embedded = embedded_data(&spec, base, &data)?;
     Ok(Prepared {
@@ -175,7 +420,71 @@ pub fn analyse_loaded(
         template,
         analysis,
         embedded,
+        pending,
     })
+}
+
+/// Append this run's line to the ledger (after a new-ledger line, and after setting the old
+/// file aside, when the run starts a new ledger), with the digest of the results it produced.
+/// Call after [`render`] and before writing the outputs: a look is counted even if writing
+/// them fails, and a rerun then re-issues it.
+pub fn record_look(prepared: &mut Prepared) -> Result<(), Error> {
+    let Some(p) = prepared.pending.as_mut() else {
+        return Ok(());
+    };
+    let path = p.ledger.path().to_path_buf();
+    let look = &prepared.analysis.looks;
+    let own = look.history.last();
+    let mut entry = p.entry.clone();
+    entry.results_sha256 = prepared.analysis.provenance.results_sha256.clone();
+    entry.verdict = verdict_id(prepared.analysis.verdict).to_string();
+    entry.delta = own.map_or(0.0, |o| o.delta);
+    entry.delta_spent = if entry.kind == EntryKind::Look {
+        look.delta_spent
+    } else {
+        0.0
+    };
+    entry.arms = prepared
+        .analysis
+        .arms
+        .iter()
+        .map(|a| {
+            let mine = own.and_then(|o| o.arms.iter().find(|x| x.name == a.name));
+            ledger::ArmLook {
+                name: a.name.clone(),
+                n: a.n,
+                upper: mine.and_then(|m| m.upper),
+                lower: mine.and_then(|m| m.lower),
+                verdict: verdict_id(a.verdict).to_string(),
+            }
+        })
+        .collect();
+    if let Some(mut first) = p.new_ledger.take() {
+        if let Some((old, sha)) = p.ledger.set_aside().map_err(|e| ledger_error(&path, e))? {
+            first.note = Some(format!(
+                "started with --new-ledger; the previous ledger was kept as {} (SHA-256 {sha})",
+                old.file_name()
+                    .map(|f| f.to_string_lossy().to_string())
+                    .unwrap_or_default()
+            ));
+        }
+        p.state = Ledger::default();
+        let (sealed, line) = p.state.seal(first);
+        p.ledger.append(&line).map_err(|e| ledger_error(&path, e))?;
+        p.state.entries.push(sealed);
+    }
+    let (sealed, line) = p.state.seal(entry);
+    p.ledger.append(&line).map_err(|e| ledger_error(&path, e))?;
+    p.state.entries.push(sealed);
+    Ok(())
+}
+
+fn verdict_id(v: Verdict) -> &'static str {
+    match v {
+        Verdict::Pass => "pass",
+        Verdict::Fail => "fail",
+        Verdict::Inconclusive => "inconclusive",
+    }
 }
 
 /// Data files at most this large in all are embedded under `embed_data: auto`.

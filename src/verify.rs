@@ -379,6 +379,9 @@ fn recompute(
             &spec_name,
             &base,
             &DateRule::Fixed(date),
+            study::LookSource::Recorded(crate::analysis::looks::LookContext::of_results(
+                recorded,
+            )),
             &mut |_, _| {},
         )?;
         study::render(&mut prepared)

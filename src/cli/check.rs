@@ -15,9 +15,12 @@ pub struct Args {
 /// Validate and summarise.
 pub fn run(args: Args) -> Result<i32, Error> {
     let mut bar = super::progress::ProgressBar::new("reading the data");
-    let prepared = study::prepare(&args.spec, &super::environment(), &mut |d, t| {
-        bar.update(d, t)
-    });
+    let prepared = study::prepare(
+        &args.spec,
+        &super::environment(),
+        study::LedgerUse::Peek,
+        &mut |d, t| bar.update(d, t),
+    );
     bar.finish();
     let prepared = prepared?;
     let a = &prepared.analysis;

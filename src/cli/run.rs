@@ -19,17 +19,32 @@ pub struct Args {
     /// Exit with status 1 when the verdict is not pass.
     #[arg(long)]
     pub gate: bool,
+    /// Set the study's ledger aside (kept under a new name) and start a new one with this run
+    /// as look 1; the report says so.
+    #[arg(long, conflicts_with = "no_ledger")]
+    pub new_ledger: bool,
+    /// Leave the ledger alone: for exploration only, the report says "not a registered look".
+    #[arg(long)]
+    pub no_ledger: bool,
 }
 
 /// Run the study and write its artifacts.
 pub fn run(args: Args) -> Result<i32, Error> {
     let mut bar = super::progress::ProgressBar::new("reading the data");
-    let prepared = study::prepare(&args.spec, &super::environment(), &mut |d, t| {
-        bar.update(d, t)
-    });
+    let env = super::environment();
+    let time = crate::provenance::utc_timestamp(env.now_unix_seconds);
+    let ledger = if args.no_ledger {
+        study::LedgerUse::Skip
+    } else if args.new_ledger {
+        study::LedgerUse::StartNew { time }
+    } else {
+        study::LedgerUse::Record { time }
+    };
+    let prepared = study::prepare(&args.spec, &env, ledger, &mut |d, t| bar.update(d, t));
     bar.finish();
     let mut prepared = prepared?;
     let artifacts = study::render(&mut prepared)?;
+    study::record_look(&mut prepared)?;
     let out = args
         .out
         .clone()

@@ -65,6 +65,13 @@ pub struct Entry {
     pub inputs: Vec<InputDigest>,
     /// The bound and verdict of each arm at this look.
     pub arms: Vec<ArmLook>,
+    /// Id of the primary method (empty on a new-ledger line).
+    pub method: String,
+    /// `fixed-n` or `anytime`: the primary method's guarantee (empty on a new-ledger line).
+    pub guarantee: String,
+    /// The budget the look's bounds were computed at, before division by arms or sides.
+    #[serde(serialize_with = "finite_number")]
+    pub delta: f64,
     /// The overall verdict at this look.
     pub verdict: String,
     /// The δ this look spent from the claim's budget; 0 for re-issues, new-ledger lines and
@@ -632,6 +639,9 @@ mod tests {
                 lower: None,
                 verdict: "pass".into(),
             }],
+            method: "exact".into(),
+            guarantee: "fixed-n".into(),
+            delta: 0.05,
             verdict: "pass".into(),
             delta_spent: f64::INFINITY,
             results_sha256: "r".into(),
