@@ -14,7 +14,9 @@ mod tally;
 
 pub use error::{DataError, Place, Problem, ProblemKind};
 use file::empty;
-pub use file::{ArmData, FileData, Format, HISTOGRAM_BINS, ReadOptions, ValueKind, read_file};
+pub use file::{
+    ArmData, ClusterTotal, FileData, Format, HISTOGRAM_BINS, ReadOptions, ValueKind, read_file,
+};
 
 use crate::bounds::Summary;
 use crate::spec::{DataSource, OutcomeKind, Spec, SummaryStats};
@@ -159,6 +161,8 @@ pub fn read(
         column,
         arm_column: spec.data.arm_column.as_deref(),
         order_column: spec.data.order_column.as_deref(),
+        // Read once the analysis view of clustered data exists.
+        cluster_column: None,
         kind,
         keep_observations,
         expected_arms: None,
