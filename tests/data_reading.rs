@@ -5,8 +5,8 @@
 //! - summaries, SHA-256, byte and row counts: tests/reference/data_summaries.json, written by
 //!   tests/reference/data_reference.py, which reads the fixtures with Python's csv module and
 //!   pyarrow and sums with math.fsum (correctly rounded) and hashlib;
-//! - clusters, their order and sums: tests/reference/cluster_summaries.json, written by the
-//!   same script;
+//! - clusters, their order and sums, and the arm of cluster means a clustered spec is analysed
+//!   on: tests/reference/cluster_summaries.json, written by the same script;
 //! - line and field numbers in refusals: counted in the fixture files under
 //!   tests/data/outcomes/errors/ (the header is line 1, fields count from 1);
 //! - message wording: the formats documented on `DataError`'s Display and in src/data/tally.rs.
@@ -17,7 +17,7 @@ use proptest::prelude::*;
 use serde_json::Value;
 use surety::bounds::Summary;
 use surety::data::{
-    DataError, FileData as Dataset, ProblemKind, ReadOptions, ValueKind, read_file,
+    DataError, FileData as Dataset, Nominal, ProblemKind, ReadOptions, ValueKind, Values, read_file,
 };
 use surety::stats::sum::NeumaierSum;
 
@@ -873,6 +873,134 @@ fn cluster_columns_must_exist_be_distinct_and_have_a_usable_type() {
         "clustered.parquet: column `gap_mm` has type DOUBLE; a cluster column holds strings, \
          byte arrays, integers or booleans"
     );
+}
+
+/// A clustered study spec reading `case`'s file, written for this test.
+fn clustered_spec(case: &Value) -> String {
+    let outcome = match case["kind"].as_str().unwrap() {
+        "binary" => "  type: binary\n  event: leak\n".to_owned(),
+        _ => {
+            let r = case["range"].as_array().unwrap();
+            format!(
+                "  type: bounded\n  range: [{}, {}]\n  unit: mm\n",
+                r[0], r[1]
+            )
+        }
+    };
+    let mut data = format!(
+        "  file: {}\n  column: {}\n  cluster_column: {}\n",
+        case["file"].as_str().unwrap(),
+        case["column"].as_str().unwrap(),
+        case["cluster_column"].as_str().unwrap()
+    );
+    for key in ["arm_column", "order_column"] {
+        if let Some(c) = case[key].as_str() {
+            data.push_str(&format!("  {key}: {c}\n"));
+        }
+    }
+    format!(
+        "surety: 1\nstudy:\n  id: T-1\n  title: Seal gaps by fixture\n  owner: Test\n\
+         claim:\n  quantity: mean gap\n  side: upper\n  limit: 0.5\n  confidence: 0.95\n\
+         outcome:\n{outcome}data:\n{data}dependence:\n  model: clustered\n"
+    )
+}
+
+#[test]
+fn a_clustered_spec_is_analysed_on_cluster_means() {
+    // Expected cluster means, their summary and histogram, and the nominal counts:
+    // tests/reference/cluster_summaries.json (math.fsum per cluster, divided by its n).
+    let base = fixture("");
+    for case in &cluster_cases() {
+        let name = case["name"].as_str().unwrap();
+        let text = clustered_spec(case);
+        let spec = surety::spec::parse("clustered.yaml", &text)
+            .unwrap_or_else(|e| panic!("{name}: {e}\n{text}"));
+        let d = surety::data::read(&spec, &base, true, &mut |_, _| {})
+            .expect("the spec names a file")
+            .unwrap_or_else(|e| panic!("{name}: {e}"));
+        let arms = case["arms"].as_array().unwrap();
+        assert_eq!(d.arms.len(), arms.len(), "{name}");
+        for (got, want) in d.arms.iter().zip(arms) {
+            let what = format!("{name}/{}", got.name);
+            let clusters = want["clusters"].as_array().unwrap().len() as u64;
+            assert_eq!(got.n, clusters, "{what}");
+            assert_eq!(
+                got.nominal,
+                Some(Nominal {
+                    trials: want["trials"].as_u64().unwrap(),
+                    events: want["events"].as_u64(),
+                    clusters,
+                    smallest_cluster: want["smallest_cluster"].as_u64().unwrap(),
+                    largest_cluster: want["largest_cluster"].as_u64().unwrap(),
+                }),
+                "{what}"
+            );
+            let Values::Bounded(b) = &got.values else {
+                panic!("{what}: cluster means are bounded values")
+            };
+            let s = &b.summary;
+            let m = &want["mean_summary"];
+            assert_eq!(s.n, m["n"].as_u64().unwrap(), "{what}");
+            close(s.sum, f(&m["sum"]), &format!("{what} sum"));
+            close(s.sum_sq, f(&m["sum_sq"]), &format!("{what} sum_sq"));
+            close(s.min, f(&m["min"]), &format!("{what} min"));
+            close(s.max, f(&m["max"]), &format!("{what} max"));
+            let (above, below) = s.split.expect("split sums");
+            close(above, f(&m["split"][0]), &format!("{what} above"));
+            close(below, f(&m["split"][1]), &format!("{what} below"));
+            let means = b.observations.as_ref().expect("kept");
+            let want_means = want["means"].as_array().unwrap();
+            assert_eq!(means.len(), want_means.len(), "{what}");
+            for (g, w) in means.iter().zip(want_means) {
+                close(*g, f(w), &format!("{what} mean"));
+            }
+            let hist: Vec<u64> = want["histogram"]
+                .as_array()
+                .unwrap()
+                .iter()
+                .map(|v| v.as_u64().unwrap())
+                .collect();
+            assert_eq!(b.histogram.as_ref(), Some(&hist), "{what}");
+            assert_eq!(b.stated_sd, None, "{what}");
+        }
+        // Without observations: the same summary, no stream.
+        let lean = surety::data::read(&spec, &base, false, &mut |_, _| {})
+            .unwrap()
+            .unwrap();
+        for (a, b) in d.arms.iter().zip(&lean.arms) {
+            let (Values::Bounded(x), Values::Bounded(y)) = (&a.values, &b.values) else {
+                panic!("{name}: bounded values expected")
+            };
+            assert_eq!(x.summary, y.summary, "{name}");
+            assert_eq!(y.observations, None, "{name}");
+        }
+        assert_eq!(d.inputs[0].rows, 12, "{name}: rows are nominal trials");
+    }
+}
+
+#[test]
+fn an_independent_spec_keeps_the_trials() {
+    // The same file as a_clustered_spec_is_analysed_on_cluster_means without the clustered
+    // model: binary counts per arm, no nominal block (events counted in clustered.csv: L1 has
+    // leaks on lines 3 and 6, L2 on lines 5, 9 and 13).
+    let case = &cluster_cases()[3];
+    assert_eq!(case["name"], "csv_clusters_binary");
+    let text = clustered_spec(case)
+        .replace("  cluster_column: fixture\n", "")
+        .replace("model: clustered", "model: independent");
+    let spec = surety::spec::parse("independent.yaml", &text).unwrap();
+    let d = surety::data::read(&spec, &fixture(""), false, &mut |_, _| {})
+        .unwrap()
+        .unwrap();
+    let got: Vec<(u64, Option<u64>, bool)> = d
+        .arms
+        .iter()
+        .map(|a| match a.values {
+            Values::Counts { events } => (a.n, Some(events), a.nominal.is_some()),
+            Values::Bounded(_) => (a.n, None, a.nominal.is_some()),
+        })
+        .collect();
+    assert_eq!(got, [(7, Some(2), false), (5, Some(3), false)]);
 }
 
 // ------------------------------------------------------------------ properties
