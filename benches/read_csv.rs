@@ -51,6 +51,7 @@ fn bench(c: &mut Criterion) {
         column: "drop_m",
         arm_column: None,
         order_column: None,
+        cluster_column: None,
         kind: ValueKind::Bounded {
             low: 0.0,
             high: 2.5,

@@ -5,6 +5,8 @@
 //! - summaries, SHA-256, byte and row counts: tests/reference/data_summaries.json, written by
 //!   tests/reference/data_reference.py, which reads the fixtures with Python's csv module and
 //!   pyarrow and sums with math.fsum (correctly rounded) and hashlib;
+//! - clusters, their order and sums, and the arm of cluster means a clustered spec is analysed
+//!   on: tests/reference/cluster_summaries.json, written by the same script;
 //! - line and field numbers in refusals: counted in the fixture files under
 //!   tests/data/outcomes/errors/ (the header is line 1, fields count from 1);
 //! - message wording: the formats documented on `DataError`'s Display and in src/data/tally.rs.
@@ -15,7 +17,7 @@ use proptest::prelude::*;
 use serde_json::Value;
 use surety::bounds::Summary;
 use surety::data::{
-    DataError, FileData as Dataset, ProblemKind, ReadOptions, ValueKind, read_file,
+    DataError, FileData as Dataset, Nominal, ProblemKind, ReadOptions, ValueKind, Values, read_file,
 };
 use surety::stats::sum::NeumaierSum;
 
@@ -40,6 +42,7 @@ fn opts<'a>(
         column,
         arm_column,
         order_column,
+        cluster_column: None,
         kind,
         keep_observations: true,
         expected_arms: None,
@@ -112,6 +115,7 @@ fn summaries_agree_with_an_independent_reading() {
             let s = &got.summary;
             assert_eq!(s.n, want["n"].as_u64().unwrap(), "{what}");
             assert_eq!(got.events, want["events"].as_u64(), "{what}");
+            assert_eq!(got.clusters, None, "{what}: no cluster column");
             close(s.sum, f(&want["sum"]), &format!("{what} sum"));
             close(s.sum_sq, f(&want["sum_sq"]), &format!("{what} sum_sq"));
             assert_eq!(s.min, f(&want["min"]), "{what}");
@@ -656,6 +660,349 @@ fn damaged_parquet_files_are_refused() {
     }
 }
 
+// ------------------------------------------------------------------ cluster columns
+
+/// The read options of a case of tests/reference/cluster_summaries.json.
+fn cluster_case_opts(case: &Value) -> ReadOptions<'_> {
+    let range = case["range"].as_array().unwrap();
+    let kind = match case["kind"].as_str().unwrap() {
+        "binary" => ValueKind::Binary,
+        _ => ValueKind::Bounded {
+            low: f(&range[0]),
+            high: f(&range[1]),
+        },
+    };
+    ReadOptions {
+        cluster_column: case["cluster_column"].as_str(),
+        ..opts(
+            case["column"].as_str().unwrap(),
+            case["arm_column"].as_str(),
+            case["order_column"].as_str(),
+            kind,
+        )
+    }
+}
+
+fn cluster_cases() -> Vec<Value> {
+    let text = include_str!("reference/cluster_summaries.json");
+    let reference: Value = serde_json::from_str(text).expect("valid JSON");
+    reference["cases"].as_array().expect("cases").clone()
+}
+
+#[test]
+fn cluster_totals_agree_with_an_independent_reading() {
+    // Expected clusters, their order, n and math.fsum sums: tests/reference/cluster_summaries.json.
+    let cases = cluster_cases();
+    assert_eq!(cases.len(), 8);
+    for case in &cases {
+        let name = case["name"].as_str().unwrap();
+        let o = cluster_case_opts(case);
+        let d = read(case["file"].as_str().unwrap(), &o).unwrap_or_else(|e| panic!("{name}: {e}"));
+        let arms = case["arms"].as_array().unwrap();
+        assert_eq!(d.arms.len(), arms.len(), "{name}");
+        for (got, want) in d.arms.iter().zip(arms) {
+            let what = format!("{name}/{}", got.name);
+            assert_eq!(got.name, want["name"].as_str().unwrap(), "{what}");
+            assert_eq!(got.summary.n, want["trials"].as_u64().unwrap(), "{what}");
+            assert_eq!(got.events, want["events"].as_u64(), "{what}");
+            let clusters = got.clusters.as_ref().expect("a cluster column was read");
+            let expected = want["clusters"].as_array().unwrap();
+            let names: Vec<&str> = clusters.iter().map(|c| c.name.as_str()).collect();
+            let want_names: Vec<&str> = expected
+                .iter()
+                .map(|c| c["name"].as_str().unwrap())
+                .collect();
+            assert_eq!(names, want_names, "{what}");
+            for (c, w) in clusters.iter().zip(expected) {
+                assert_eq!(c.n, w["n"].as_u64().unwrap(), "{what}/{}", c.name);
+                close(c.sum, f(&w["sum"]), &format!("{what}/{} sum", c.name));
+            }
+            // The clusters partition the arm's trials.
+            assert_eq!(clusters.iter().map(|c| c.n).sum::<u64>(), got.summary.n);
+        }
+        // Cluster totals do not depend on keeping the observations.
+        let lean = ReadOptions {
+            keep_observations: false,
+            ..o
+        };
+        let d2 = read(case["file"].as_str().unwrap(), &lean).unwrap();
+        for (a, b) in d.arms.iter().zip(&d2.arms) {
+            assert_eq!(a.clusters, b.clusters, "{name}");
+            assert_eq!(a.summary, b.summary, "{name}");
+        }
+    }
+}
+
+#[test]
+fn clusters_are_per_arm_and_in_trial_order() {
+    // clustered.csv, counted by hand: fixture F-07 has rows on lines 2, 4 and 11 for line L1
+    // (gap 0.85, 0.40, 0.0) and on lines 5 and 9 for line L2 (2.25, 4.0); range [0, 4].
+    let range = ValueKind::Bounded {
+        low: 0.0,
+        high: 4.0,
+    };
+    let o = ReadOptions {
+        cluster_column: Some("fixture"),
+        ..opts("gap_mm", Some("line"), None, range)
+    };
+    let d = read("clustered.csv", &o).unwrap();
+    let l1 = d.arms[0].clusters.as_ref().unwrap();
+    let l2 = d.arms[1].clusters.as_ref().unwrap();
+    assert_eq!((l1[0].name.as_str(), l1[0].n), ("F-07", 3));
+    assert_eq!(l1[0].sum, (0.85 + 0.40 + 0.0) / 4.0);
+    assert_eq!((l2[0].name.as_str(), l2[0].n), ("F-07", 2));
+    assert_eq!(l2[0].sum, (2.25 + 4.0) / 4.0);
+    // A quoted name keeps its comma.
+    assert_eq!(l1[1].name, "F-12, bay 2");
+    // By row order of first appearance: L1 F-07, F-12…, F-03; L2 F-07, G-01, H-22.
+    let names = |cs: &[surety::data::ClusterTotal]| -> Vec<String> {
+        cs.iter().map(|c| c.name.clone()).collect()
+    };
+    assert_eq!(names(l1), ["F-07", "F-12, bay 2", "F-03"]);
+    assert_eq!(names(l2), ["F-07", "G-01", "H-22"]);
+    // By cycle: F-03 has cycle 0, F-07 cycle 1, F-12 cycle 2. In L2, G-01 and F-07 both
+    // start at cycle 2; G-01's cycle-2 row (line 7) comes before F-07's (line 9), so the
+    // stable trial order puts G-01 first.
+    let ordered = ReadOptions {
+        order_column: Some("cycle"),
+        ..o
+    };
+    let d = read("clustered.csv", &ordered).unwrap();
+    assert_eq!(
+        names(d.arms[0].clusters.as_ref().unwrap()),
+        ["F-03", "F-07", "F-12, bay 2"]
+    );
+    assert_eq!(
+        names(d.arms[1].clusters.as_ref().unwrap()),
+        ["G-01", "F-07", "H-22"]
+    );
+    // Without a cluster column there are no clusters.
+    let plain = read("clustered.csv", &opts("gap_mm", Some("line"), None, range)).unwrap();
+    assert!(plain.arms.iter().all(|a| a.clusters.is_none()));
+}
+
+#[test]
+fn cluster_cells_are_checked_and_located() {
+    let range = ValueKind::Bounded {
+        low: 0.0,
+        high: 4.0,
+    };
+    // empty_cluster.csv: the fixture (field 2) is empty on line 3, blanks on line 5 and a
+    // quoted empty string on line 6.
+    let o = ReadOptions {
+        cluster_column: Some("fixture"),
+        ..opts("gap_mm", Some("line"), None, range)
+    };
+    let e = refusal("errors/empty_cluster.csv", &o);
+    assert_eq!(e.kind(), ProblemKind::EmptyCell);
+    assert_eq!(
+        e.to_string(),
+        format!(
+            "errors/empty_cluster.csv:3:2: 3 empty cells in column `fixture`: lines 3, 5, 6\n\
+             {BLANK_HINT}"
+        )
+    );
+    // bad_utf8.csv: `fw-\xFF` in field 1 of line 3, read here as the cluster.
+    let o = ReadOptions {
+        cluster_column: Some("build"),
+        ..opts("drop_m", None, None, DROPS)
+    };
+    assert_eq!(
+        message("errors/bad_utf8.csv", &o),
+        "errors/bad_utf8.csv:3:1: cell in column `build` is not UTF-8 text\n  hint: save the \
+         file with UTF-8 encoding"
+    );
+    // cluster_nulls.parquet (tests/reference/data_reference.py): fixture is null in row 2
+    // and the empty string in row 4.
+    let o = ReadOptions {
+        cluster_column: Some("fixture"),
+        ..opts("gap_mm", None, None, range)
+    };
+    assert_eq!(
+        message("errors/cluster_nulls.parquet", &o),
+        format!(
+            "errors/cluster_nulls.parquet: row 2: null value in column `fixture`\n{BLANK_HINT}\n\
+             errors/cluster_nulls.parquet: row 4: empty cell in column `fixture`\n{BLANK_HINT}"
+        )
+    );
+}
+
+#[test]
+fn cluster_columns_must_exist_be_distinct_and_have_a_usable_type() {
+    let range = ValueKind::Bounded {
+        low: 0.0,
+        high: 4.0,
+    };
+    let with = |cluster| ReadOptions {
+        cluster_column: Some(cluster),
+        ..opts("gap_mm", Some("line"), Some("cycle"), range)
+    };
+    assert_eq!(
+        message("clustered.csv", &with("fixtrue")),
+        "clustered.csv:1: no column named `fixtrue`; the header names `line`, `fixture`, \
+         `cycle`, `gap_mm`, `leak`\n  hint: did you mean `fixture`?"
+    );
+    assert_eq!(
+        message("clustered.parquet", &with("fixtrue")),
+        "clustered.parquet: no column named `fixtrue`; the file has `line`, `fixture`, \
+         `fixture_no`, `fixture_raw`, `night`, `cycle`, `gap_mm`, `leak`\n  hint: did you mean \
+         `fixture`?"
+    );
+    for (column, key) in [
+        ("gap_mm", "column"),
+        ("line", "arm_column"),
+        ("cycle", "order_column"),
+    ] {
+        let e = refusal("clustered.csv", &with(column));
+        assert_eq!(e.kind(), ProblemKind::BadOptions);
+        assert_eq!(
+            e.to_string(),
+            format!(
+                "clustered.csv: `{key}` and `cluster_column` both name column `{column}`; each \
+                 must be a different column"
+            )
+        );
+    }
+    // A floating-point column does not name clusters (its values need not compare exactly).
+    let o = ReadOptions {
+        cluster_column: Some("gap_mm"),
+        ..opts("leak", None, None, ValueKind::Binary)
+    };
+    assert_eq!(
+        message("clustered.parquet", &o),
+        "clustered.parquet: column `gap_mm` has type DOUBLE; a cluster column holds strings, \
+         byte arrays, integers or booleans"
+    );
+}
+
+/// A clustered study spec reading `case`'s file, written for this test.
+fn clustered_spec(case: &Value) -> String {
+    let outcome = match case["kind"].as_str().unwrap() {
+        "binary" => "  type: binary\n  event: leak\n".to_owned(),
+        _ => {
+            let r = case["range"].as_array().unwrap();
+            format!(
+                "  type: bounded\n  range: [{}, {}]\n  unit: mm\n",
+                r[0], r[1]
+            )
+        }
+    };
+    let mut data = format!(
+        "  file: {}\n  column: {}\n  cluster_column: {}\n",
+        case["file"].as_str().unwrap(),
+        case["column"].as_str().unwrap(),
+        case["cluster_column"].as_str().unwrap()
+    );
+    for key in ["arm_column", "order_column"] {
+        if let Some(c) = case[key].as_str() {
+            data.push_str(&format!("  {key}: {c}\n"));
+        }
+    }
+    format!(
+        "surety: 1\nstudy:\n  id: T-1\n  title: Seal gaps by fixture\n  owner: Test\n\
+         claim:\n  quantity: mean gap\n  side: upper\n  limit: 0.5\n  confidence: 0.95\n\
+         outcome:\n{outcome}data:\n{data}dependence:\n  model: clustered\n"
+    )
+}
+
+#[test]
+fn a_clustered_spec_is_analysed_on_cluster_means() {
+    // Expected cluster means, their summary and histogram, and the nominal counts:
+    // tests/reference/cluster_summaries.json (math.fsum per cluster, divided by its n).
+    let base = fixture("");
+    for case in &cluster_cases() {
+        let name = case["name"].as_str().unwrap();
+        let text = clustered_spec(case);
+        let spec = surety::spec::parse("clustered.yaml", &text)
+            .unwrap_or_else(|e| panic!("{name}: {e}\n{text}"));
+        let d = surety::data::read(&spec, &base, true, &mut |_, _| {})
+            .expect("the spec names a file")
+            .unwrap_or_else(|e| panic!("{name}: {e}"));
+        let arms = case["arms"].as_array().unwrap();
+        assert_eq!(d.arms.len(), arms.len(), "{name}");
+        for (got, want) in d.arms.iter().zip(arms) {
+            let what = format!("{name}/{}", got.name);
+            let clusters = want["clusters"].as_array().unwrap().len() as u64;
+            assert_eq!(got.n, clusters, "{what}");
+            assert_eq!(
+                got.nominal,
+                Some(Nominal {
+                    trials: want["trials"].as_u64().unwrap(),
+                    events: want["events"].as_u64(),
+                    clusters,
+                    smallest_cluster: want["smallest_cluster"].as_u64().unwrap(),
+                    largest_cluster: want["largest_cluster"].as_u64().unwrap(),
+                }),
+                "{what}"
+            );
+            let Values::Bounded(b) = &got.values else {
+                panic!("{what}: cluster means are bounded values")
+            };
+            let s = &b.summary;
+            let m = &want["mean_summary"];
+            assert_eq!(s.n, m["n"].as_u64().unwrap(), "{what}");
+            close(s.sum, f(&m["sum"]), &format!("{what} sum"));
+            close(s.sum_sq, f(&m["sum_sq"]), &format!("{what} sum_sq"));
+            close(s.min, f(&m["min"]), &format!("{what} min"));
+            close(s.max, f(&m["max"]), &format!("{what} max"));
+            let (above, below) = s.split.expect("split sums");
+            close(above, f(&m["split"][0]), &format!("{what} above"));
+            close(below, f(&m["split"][1]), &format!("{what} below"));
+            let means = b.observations.as_ref().expect("kept");
+            let want_means = want["means"].as_array().unwrap();
+            assert_eq!(means.len(), want_means.len(), "{what}");
+            for (g, w) in means.iter().zip(want_means) {
+                close(*g, f(w), &format!("{what} mean"));
+            }
+            let hist: Vec<u64> = want["histogram"]
+                .as_array()
+                .unwrap()
+                .iter()
+                .map(|v| v.as_u64().unwrap())
+                .collect();
+            assert_eq!(b.histogram.as_ref(), Some(&hist), "{what}");
+            assert_eq!(b.stated_sd, None, "{what}");
+        }
+        // Without observations: the same summary, no stream.
+        let lean = surety::data::read(&spec, &base, false, &mut |_, _| {})
+            .unwrap()
+            .unwrap();
+        for (a, b) in d.arms.iter().zip(&lean.arms) {
+            let (Values::Bounded(x), Values::Bounded(y)) = (&a.values, &b.values) else {
+                panic!("{name}: bounded values expected")
+            };
+            assert_eq!(x.summary, y.summary, "{name}");
+            assert_eq!(y.observations, None, "{name}");
+        }
+        assert_eq!(d.inputs[0].rows, 12, "{name}: rows are nominal trials");
+    }
+}
+
+#[test]
+fn an_independent_spec_keeps_the_trials() {
+    // The same file as a_clustered_spec_is_analysed_on_cluster_means without the clustered
+    // model: binary counts per arm, no nominal block (events counted in clustered.csv: L1 has
+    // leaks on lines 3 and 6, L2 on lines 5, 9 and 13).
+    let case = &cluster_cases()[3];
+    assert_eq!(case["name"], "csv_clusters_binary");
+    let text = clustered_spec(case)
+        .replace("  cluster_column: fixture\n", "")
+        .replace("model: clustered", "model: independent");
+    let spec = surety::spec::parse("independent.yaml", &text).unwrap();
+    let d = surety::data::read(&spec, &fixture(""), false, &mut |_, _| {})
+        .unwrap()
+        .unwrap();
+    let got: Vec<(u64, Option<u64>, bool)> = d
+        .arms
+        .iter()
+        .map(|a| match a.values {
+            Values::Counts { events } => (a.n, Some(events), a.nominal.is_some()),
+            Values::Bounded(_) => (a.n, None, a.nominal.is_some()),
+        })
+        .collect();
+    assert_eq!(got, [(7, Some(2), false), (5, Some(3), false)]);
+}
+
 // ------------------------------------------------------------------ properties
 
 /// What a reader must produce for `xs` in [low, high]: the summary computed directly from the
@@ -719,6 +1066,7 @@ proptest! {
             column: "value",
             arm_column: Some("arm"),
             order_column: None,
+            cluster_column: None,
             kind: ValueKind::Bounded { low, high },
             keep_observations: true,
             expected_arms: None,
@@ -758,6 +1106,7 @@ proptest! {
             column: "v",
             arm_column: None,
             order_column: None,
+            cluster_column: None,
             kind: ValueKind::Bounded { low, high },
             keep_observations: false,
             expected_arms: None,

@@ -6,7 +6,7 @@ use std::collections::HashMap;
 
 use super::error::{DataError, Place, ProblemKind};
 use super::tally::{Context, Tally};
-use super::{ArmData, HISTOGRAM_BINS, ReadOptions, ValueKind};
+use super::{ArmData, ClusterTotal, HISTOGRAM_BINS, ReadOptions, ValueKind};
 use crate::bounds::Summary;
 use crate::stats::sum::NeumaierSum;
 
@@ -101,6 +101,18 @@ impl Running {
     }
 }
 
+/// Running totals of one cluster within one arm.
+#[derive(Debug)]
+struct Cluster {
+    name: String,
+    n: u64,
+    sum: NeumaierSum,
+    /// With an order column: the smallest order value among the cluster's trials and the
+    /// row sequence number of the first trial holding it, which place the cluster in trial
+    /// order. Without one, clusters are created in trial order already.
+    first: Option<(Key, u64)>,
+}
+
 /// Running state of one arm.
 #[derive(Debug)]
 struct Arm {
@@ -109,6 +121,10 @@ struct Arm {
     histogram: [u64; HISTOGRAM_BINS],
     observations: Vec<f64>,
     keyed: Vec<(Key, f64)>,
+    clusters: Vec<Cluster>,
+    cluster_index: HashMap<Box<[u8]>, usize>,
+    /// The cluster of this arm's previous trial: trials of one cluster usually come together.
+    last_cluster: Option<usize>,
 }
 
 impl Arm {
@@ -130,7 +146,47 @@ impl Arm {
             histogram: [0; HISTOGRAM_BINS],
             observations: Vec::new(),
             keyed: Vec::new(),
+            clusters: Vec::new(),
+            cluster_index: HashMap::new(),
+            last_cluster: None,
         }
+    }
+
+    /// Adds the rescaled value `u` of the trial with row sequence number `seq` (and order
+    /// value `key`, when there is an order column) to the cluster named `name`, which must be
+    /// UTF-8 (the readers check it first).
+    fn add_to_cluster(&mut self, name: &[u8], u: f64, key: Option<&Key>, seq: u64) {
+        let found = match self.last_cluster {
+            Some(i) if self.clusters[i].name.as_bytes() == name => Some(i),
+            _ => self.cluster_index.get(name).copied(),
+        };
+        let i = match found {
+            Some(i) => {
+                let c = &mut self.clusters[i];
+                if let (Some(k), Some((first, at))) = (key, &mut c.first)
+                    && k.cmp(first) == Ordering::Less
+                {
+                    *first = k.clone();
+                    *at = seq;
+                }
+                i
+            }
+            None => {
+                let i = self.clusters.len();
+                self.clusters.push(Cluster {
+                    name: String::from_utf8_lossy(name).into_owned(),
+                    n: 0,
+                    sum: NeumaierSum::new(),
+                    first: key.map(|k| (k.clone(), seq)),
+                });
+                self.cluster_index.insert(name.into(), i);
+                i
+            }
+        };
+        self.last_cluster = Some(i);
+        let c = &mut self.clusters[i];
+        c.n += 1;
+        c.sum.add(u);
     }
 
     #[inline(always)]
@@ -153,6 +209,7 @@ pub(crate) struct Columns {
     pub value: String,
     pub arm: Option<String>,
     pub order: Option<String>,
+    pub cluster: Option<String>,
 }
 
 /// Collects checked values into arms; every refused cell goes to the tally instead, and the
@@ -165,6 +222,10 @@ pub(crate) struct Collector<'o> {
     binary: bool,
     keep: bool,
     ordered: bool,
+    clustered: bool,
+    /// Values accepted so far: the row sequence number of the next one, for placing clusters
+    /// whose first order values tie.
+    seq: u64,
     expected: Option<&'o [String]>,
     arms: Vec<Arm>,
     index: HashMap<Box<[u8]>, usize>,
@@ -174,8 +235,8 @@ pub(crate) struct Collector<'o> {
     pub tally: Tally,
 }
 
-/// Checks the options that do not depend on the file: a usable declared range and three
-/// distinct column names.
+/// Checks the options that do not depend on the file: a usable declared range and distinct
+/// column names.
 pub(crate) fn check_options(file: &str, opts: &ReadOptions) -> Result<(), DataError> {
     if let ValueKind::Bounded { low, high } = opts.kind {
         let ok = low.is_finite() && high.is_finite() && low < high && (high - low).is_finite();
@@ -193,6 +254,7 @@ pub(crate) fn check_options(file: &str, opts: &ReadOptions) -> Result<(), DataEr
     let mut names = vec![("column", opts.column)];
     names.extend(opts.arm_column.map(|c| ("arm_column", c)));
     names.extend(opts.order_column.map(|c| ("order_column", c)));
+    names.extend(opts.cluster_column.map(|c| ("cluster_column", c)));
     for (i, (ka, a)) in names.iter().enumerate() {
         for (kb, b) in &names[i + 1..] {
             if a == b {
@@ -224,6 +286,8 @@ impl<'o> Collector<'o> {
             binary,
             keep: opts.keep_observations,
             ordered: opts.order_column.is_some(),
+            clustered: opts.cluster_column.is_some(),
+            seq: 0,
             expected: opts.expected_arms,
             arms: Vec::new(),
             index: HashMap::new(),
@@ -232,6 +296,7 @@ impl<'o> Collector<'o> {
                 value: opts.column.to_owned(),
                 arm: opts.arm_column.map(str::to_owned),
                 order: opts.order_column.map(str::to_owned),
+                cluster: opts.cluster_column.map(str::to_owned),
             },
             tally: Tally::default(),
         };
@@ -291,6 +356,20 @@ impl<'o> Collector<'o> {
         self.index.insert(name.into(), i);
         self.last = Some(i);
         Some(i)
+    }
+
+    /// Whether `name` (a cluster cell, trimmed as the format says) can name a cluster: not
+    /// empty and UTF-8; otherwise the problem is tallied.
+    pub fn check_cluster(&mut self, name: &[u8], place: Place) -> bool {
+        let kind = if name.is_empty() {
+            ProblemKind::EmptyCell
+        } else if std::str::from_utf8(name).is_err() {
+            ProblemKind::InvalidText
+        } else {
+            return true;
+        };
+        self.refuse_cluster(kind, place, name);
+        false
     }
 
     /// Parses a CSV/TSV value cell (already trimmed) into a value in data units.
@@ -367,6 +446,12 @@ impl<'o> Collector<'o> {
         self.tally.note(kind, column, place, text);
     }
 
+    /// Tallies a problem with the cluster column.
+    pub fn refuse_cluster(&mut self, kind: ProblemKind, place: Place, text: &[u8]) {
+        let column = self.columns.cluster.as_deref();
+        self.tally.note(kind, column, place, text);
+    }
+
     /// Tallies a problem of a whole row (ragged row, blank line).
     pub fn refuse_row(&mut self, kind: ProblemKind, place: Place, text: &[u8]) {
         self.tally.note(kind, None, place, text);
@@ -374,8 +459,11 @@ impl<'o> Collector<'o> {
 
     /// Adds one checked-for-type value `x` (data units) to arm `arm`: refuses it when it is not
     /// finite or outside the declared range, else rescales it to [0, 1] and records it. `key` is
-    /// the row's order value (ignored unless observations are kept). `cell` is the value as
-    /// written, for the message; `None` shows the number itself (typed columns).
+    /// the row's order value (ignored unless observations are kept or clusters are placed).
+    /// `cell` is the value as written, for the message; `None` shows the number itself (typed
+    /// columns). `cluster` is the row's cluster, already passed by
+    /// [`check_cluster`](Self::check_cluster); it must be given exactly when there is a
+    /// cluster column.
     #[inline]
     pub fn push(
         &mut self,
@@ -384,6 +472,7 @@ impl<'o> Collector<'o> {
         key: Option<Key>,
         place: Place,
         cell: Option<&[u8]>,
+        cluster: Option<&[u8]>,
     ) {
         if !x.is_finite() || x < self.low || x > self.high {
             let kind = if x.is_finite() {
@@ -401,6 +490,10 @@ impl<'o> Collector<'o> {
             (self.low, self.width, self.binary, self.keep, self.ordered);
         let a = &mut self.arms[arm];
         let u = a.add(x, low, width, binary);
+        if let Some(name) = cluster {
+            a.add_to_cluster(name, u, key.as_ref(), self.seq);
+        }
+        self.seq += 1;
         if keep {
             if ordered {
                 if let Some(k) = key {
@@ -429,7 +522,8 @@ impl<'o> Collector<'o> {
 
     /// Adds the finite values `xs` of consecutive lines `first_line`, `first_line + 1`, … of
     /// one arm (no order keys), field `column`; `text(i)` is the cell of value i as written. The
-    /// same arithmetic as [`push`](Self::push), with the running sums kept in registers.
+    /// same arithmetic as [`push`](Self::push), with the running sums kept in registers. Only
+    /// for files without a cluster column (runs carry no cluster names).
     pub fn push_run<'t>(
         &mut self,
         arm: usize,
@@ -449,7 +543,7 @@ impl<'o> Collector<'o> {
                     line: first_line + i as u64,
                     column: Some(column),
                 };
-                self.push(arm, x, None, place, Some(text(i)));
+                self.push(arm, x, None, place, Some(text(i)), None);
             }
             return;
         }
@@ -468,6 +562,7 @@ impl<'o> Collector<'o> {
             }
         }
         *a.running_mut() = run;
+        self.seq += xs.len() as u64;
     }
 
     /// The arms, or every problem found (the tallied ones, `extra`, and arms the spec names
@@ -528,6 +623,7 @@ impl<'o> Collector<'o> {
         let binary = self.binary;
         let keep = self.keep;
         let ordered = self.ordered;
+        let clustered = self.clustered;
         Ok(arms
             .into_iter()
             .map(|a| {
@@ -540,6 +636,7 @@ impl<'o> Collector<'o> {
                         a.observations
                     }
                 });
+                let clusters = clustered.then(|| cluster_totals(a.clusters));
                 let r = a.run;
                 ArmData {
                     name: a.name,
@@ -556,10 +653,28 @@ impl<'o> Collector<'o> {
                     histogram: a.histogram.to_vec(),
                     raw_min: r.raw_min,
                     raw_max: r.raw_max,
+                    clusters,
                 }
             })
             .collect())
     }
+}
+
+/// One arm's clusters in trial order of their first trial: by smallest order value, ties by
+/// the row of its first occurrence (without an order column they are in that order already).
+fn cluster_totals(mut clusters: Vec<Cluster>) -> Vec<ClusterTotal> {
+    clusters.sort_by(|a, b| match (&a.first, &b.first) {
+        (Some((ka, sa)), Some((kb, sb))) => ka.cmp(kb).then(sa.cmp(sb)),
+        _ => Ordering::Equal,
+    });
+    clusters
+        .into_iter()
+        .map(|c| ClusterTotal {
+            name: c.name,
+            n: c.n,
+            sum: c.sum.value(),
+        })
+        .collect()
 }
 
 /// Parses a decimal number, correctly rounded to the nearest double. `nan`, `inf` and

@@ -24,6 +24,8 @@ use crate::spec::suggest;
 const BOM: &[u8] = b"\xEF\xBB\xBF";
 /// Marks a slot that no column fills.
 const NONE: usize = usize::MAX;
+/// Columns that can be read: value, arm, order, cluster.
+const SLOTS: usize = 4;
 
 /// Reads a delimited file: the arms, the digest of the bytes read, and the number of data rows.
 pub(super) fn read(
@@ -48,8 +50,9 @@ pub(super) fn read(
 struct Header {
     /// Number of fields every record must have.
     fields: usize,
-    /// Field index of the value, arm and order columns (slots 0, 1, 2); [`NONE`] when unused.
-    slots: [usize; 3],
+    /// Field index of the value, arm, order and cluster columns (slots 0, 1, 2, 3); [`NONE`]
+    /// when unused.
+    slots: [usize; SLOTS],
 }
 
 impl Header {
@@ -160,8 +163,8 @@ impl<'o, 'f> Parser<'o, 'f> {
             },
         };
         let single = header.fields == 1;
-        // One column, no arms, no order: values can be added in runs.
-        let plain = single && self.collector.single_arm().is_some();
+        // One column, so no arms, order or clusters: values can be added in runs.
+        let plain = single && self.collector.single_arm().is_some() && header.slots[3] == NONE;
         let len = data.len();
         loop {
             let rest = &data[p..];
@@ -207,8 +210,8 @@ impl<'o, 'f> Parser<'o, 'f> {
                     if blank {
                         self.blank(line);
                     } else {
-                        let mut cells = [None; 3];
-                        for (slot, piece) in self.pieces.iter().enumerate().take(3) {
+                        let mut cells = [None; SLOTS];
+                        for (slot, piece) in self.pieces.iter().enumerate().take(SLOTS) {
                             if piece.present {
                                 cells[slot] = Some(Cell {
                                     bytes: &piece.bytes,
@@ -250,7 +253,8 @@ impl<'o, 'f> Parser<'o, 'f> {
         match header.slot_of(field)? {
             0 => Some(self.opts.column.to_owned()),
             1 => self.opts.arm_column.map(str::to_owned),
-            _ => self.opts.order_column.map(str::to_owned),
+            2 => self.opts.order_column.map(str::to_owned),
+            _ => self.opts.cluster_column.map(str::to_owned),
         }
     }
 
@@ -327,11 +331,11 @@ impl<'o, 'f> Parser<'o, 'f> {
                 self.trim_tabs,
                 line_no,
                 1,
-                &[Some(cell), None, None],
+                &[Some(cell), None, None, None],
             );
             return;
         }
-        let mut cells = [None; 3];
+        let mut cells = [None; SLOTS];
         let mut field = 0;
         let mut start = 0;
         for d in memchr_iter(self.delim, line) {
@@ -526,11 +530,12 @@ impl<'o, 'f> Parser<'o, 'f> {
             )
             .with_hint("the first line must name the columns, e.g. `build,drop_m,cycle`"));
         }
-        let mut slots = [NONE; 3];
+        let mut slots = [NONE; SLOTS];
         let wanted = [
             Some(self.opts.column),
             self.opts.arm_column,
             self.opts.order_column,
+            self.opts.cluster_column,
         ];
         for (slot, want) in wanted.iter().enumerate() {
             let Some(want) = *want else { continue };
@@ -641,7 +646,7 @@ fn row(
     trim_tabs: bool,
     line: u64,
     fields: usize,
-    cells: &[Option<Cell>; 3],
+    cells: &[Option<Cell>; SLOTS],
 ) {
     if fields != header.fields {
         let column = fields.min(header.fields) as u32 + 1;
@@ -685,20 +690,32 @@ fn row(
             k
         }
     };
+    // Cluster names are read like arm names: quoted cells as written, others trimmed.
+    let mut cluster_ok = true;
+    let cluster = cells[3].as_ref().map(|cell| {
+        let name = if cell.quoted {
+            cell.bytes
+        } else {
+            trim_bytes(cell.bytes, trim_tabs)
+        };
+        cluster_ok = c.check_cluster(name, place(3, cell));
+        name
+    });
     let Some(cell) = &cells[0] else { return };
     let text = trim_bytes(cell.bytes, true);
     let at = place(0, cell);
     if let Some(x) = c.parse_value(text, at)
         && let Some(arm) = arm
         && key_ok
+        && cluster_ok
     {
-        c.push(arm, x, key, at, Some(text));
+        c.push(arm, x, key, at, Some(text), cluster);
     }
 }
 
 /// Puts field `field` of a simple line into its slot, if it is read.
 #[inline]
-fn take<'a>(header: &Header, field: usize, bytes: &'a [u8], cells: &mut [Option<Cell<'a>>; 3]) {
+fn take<'a>(header: &Header, field: usize, bytes: &'a [u8], cells: &mut [Option<Cell<'a>>; SLOTS]) {
     if let Some(slot) = header.slot_of(field) {
         cells[slot] = Some(Cell {
             bytes,

@@ -35,6 +35,10 @@ pub struct ReadOptions<'a> {
     /// The column giving the trials' order (numbers; Parquet also strings); observations are
     /// sorted by it, ties keeping row order. Without it, row order is trial order.
     pub order_column: Option<&'a str>,
+    /// The column naming each row's cluster (fixture, lot, patient, ...): CSV/TSV text, or a
+    /// Parquet string, byte-array, integer or boolean column. With it every arm also gets its
+    /// per-cluster totals ([`ArmData::clusters`]); an empty or null cell is refused.
+    pub cluster_column: Option<&'a str>,
     /// Binary or bounded outcomes.
     pub kind: ValueKind,
     /// Keep every observation (some methods need the stream); when false, memory use does not
@@ -63,6 +67,24 @@ pub struct ArmData {
     pub raw_min: f64,
     /// Largest value, in data units.
     pub raw_max: f64,
+    /// Per-cluster totals, `Some` exactly when a cluster column was read. Clusters belong to
+    /// one arm (the same name in two arms is two clusters) and are listed in trial order of
+    /// their first trial; their `n` add up to `summary.n`.
+    pub clusters: Option<Vec<ClusterTotal>>,
+}
+
+/// The trials of one cluster within one arm.
+#[derive(Debug, Clone, PartialEq)]
+pub struct ClusterTotal {
+    /// The cluster's cell as text: CSV/TSV cells as read (trimmed unless quoted), Parquet
+    /// integers in decimal, booleans as `true`/`false`, strings as text, and byte arrays
+    /// without a string annotation as `0x` followed by their bytes in lower-case hex.
+    pub name: String,
+    /// Number of trials in the cluster; at least 1.
+    pub n: u64,
+    /// Compensated sum of the cluster's values rescaled to [0, 1]: within a few ulps of the
+    /// exact sum, which lies in [0, `n`].
+    pub sum: f64,
 }
 
 /// An outcome file, read and checked.

@@ -8,6 +8,7 @@
 //! Value columns: DOUBLE, FLOAT, INT32, INT64 (signed or unsigned integers; not DECIMAL, dates or
 //! times), and BOOLEAN for binary outcomes. Arm columns: strings or integers. Order columns:
 //! strings, integers of any meaning (timestamps order as their integers), or floating point.
+//! Cluster columns: strings, byte arrays without annotation, plain integers, or BOOLEAN.
 
 use std::fs::File;
 use std::panic::{AssertUnwindSafe, catch_unwind};
@@ -148,10 +149,35 @@ fn decode(
         }
         None => None,
     };
+    let cluster = match opts.cluster_column {
+        Some(name) => {
+            let i = find_column(file, schema, name)?;
+            let d = schema.column(i);
+            let raw_bytes = d.physical_type() == PhysicalType::BYTE_ARRAY
+                && d.logical_type_ref().is_none()
+                && d.converted_type() == ConvertedType::NONE;
+            match stored(d.as_ref()) {
+                Some(Stored::Text) | Some(Stored::Int { .. }) | Some(Stored::Bool) => {}
+                None if raw_bytes => {}
+                _ => {
+                    return Err(unsupported(
+                        file,
+                        d.as_ref(),
+                        "a cluster column holds strings, byte arrays, integers or booleans",
+                    ));
+                }
+            }
+            Some((i, raw_bytes))
+        }
+        None => None,
+    };
 
     // Refuse codecs this build does not decode up front, with a message that names the column.
     for g in meta.row_groups() {
-        for i in [Some(value), arm, order].into_iter().flatten() {
+        for i in [Some(value), arm, order, cluster.map(|(i, _)| i)]
+            .into_iter()
+            .flatten()
+        {
             let codec = g.column(i).compression();
             let unread = match codec {
                 Compression::BROTLI(_) => Some("Brotli"),
@@ -197,6 +223,17 @@ fn decode(
             )?),
             None => None,
         };
+        let mut cluster_r = match cluster {
+            Some((i, _)) => Some(Column::open(
+                file,
+                group.as_ref(),
+                i,
+                schema.column(i).as_ref(),
+            )?),
+            None => None,
+        };
+        let raw_cluster = matches!(cluster, Some((_, true)));
+        let mut cluster_name: Vec<u8> = Vec::new();
         let mut done = 0usize;
         while done < group_rows {
             let want = BATCH.min(group_rows - done);
@@ -206,6 +243,10 @@ fn decode(
                 None => None,
             };
             let keys = match &mut order_r {
+                Some(r) => Some(r.next(file, want)?),
+                None => None,
+            };
+            let cluster_cells = match &mut cluster_r {
                 Some(r) => Some(r.next(file, want)?),
                 None => None,
             };
@@ -252,6 +293,22 @@ fn decode(
                         k
                     }
                 };
+                let mut cluster_ok = true;
+                if let Some(cells) = &cluster_cells {
+                    cluster_name.clear();
+                    match &cells[i] {
+                        None => {
+                            collector.refuse_cluster(ProblemKind::NullValue, place, b"null");
+                            cluster_ok = false;
+                        }
+                        Some(Val::S(s)) if raw_cluster => hex_name(s.data(), &mut cluster_name),
+                        Some(Val::S(s)) => cluster_name.extend_from_slice(s.data()),
+                        Some(Val::I(n)) => cluster_name.extend_from_slice(n.to_string().as_bytes()),
+                        Some(Val::B(b)) => cluster_name.extend_from_slice(b.to_string().as_bytes()),
+                        Some(Val::F(x)) => cluster_name.extend_from_slice(x.to_string().as_bytes()),
+                    }
+                    cluster_ok = cluster_ok && collector.check_cluster(&cluster_name, place);
+                }
                 let x = match &values[i] {
                     None => {
                         collector.refuse_value(ProblemKind::NullValue, place, b"null");
@@ -287,8 +344,10 @@ fn decode(
                 };
                 if let Some(a) = arm_index
                     && key_ok
+                    && cluster_ok
                 {
-                    collector.push(a, x, key, place, None);
+                    let cluster = cluster_cells.is_some().then_some(&cluster_name[..]);
+                    collector.push(a, x, key, place, None, cluster);
                 }
             }
             done += want;
@@ -311,6 +370,21 @@ fn decode(
     }
     let arms = collector.finish(file, 0, Vec::new())?;
     Ok((arms, row))
+}
+
+/// `bytes` as a cluster name: `0x` and two lower-case hex digits per byte, so that names of
+/// byte arrays that are not text stay distinct and printable. An empty array stays empty, to
+/// be refused as an empty cell.
+fn hex_name(bytes: &[u8], out: &mut Vec<u8>) {
+    const DIGITS: &[u8; 16] = b"0123456789abcdef";
+    if bytes.is_empty() {
+        return;
+    }
+    out.extend_from_slice(b"0x");
+    for &b in bytes {
+        out.push(DIGITS[usize::from(b >> 4)]);
+        out.push(DIGITS[usize::from(b & 15)]);
+    }
 }
 
 /// The leaf index of top-level column `name`, or the error naming the columns that exist.

@@ -6,6 +6,12 @@ tests/reference/data_summaries.json: for each case the rows, SHA-256 (hashlib), 
 events, the sums (math.fsum, correctly rounded), min/max, split sums, the 40-bin histogram and
 the ordered observations, all after rescaling by the declared range.
 
+It also writes tests/reference/cluster_summaries.json for the cluster-column cases: per arm the
+clusters in trial order of their first trial (trial order: the order column, stably, else row
+order) with their n and math.fsum of the rescaled values, and the arm of cluster means
+(fsum / n per cluster) that a clustered analysis sees: its sums, extremes, split sums and
+40-bin histogram, and the nominal trial, event and cluster counts.
+
     pip install pyarrow
     python3 tests/reference/data_reference.py
 
@@ -225,8 +231,131 @@ CASES = [
 ]
 
 
+# ---------------------------------------------------------------- cluster columns
+
+
+def write_cluster_fixtures():
+    rows = read_csv_rows("clustered.csv")[1:]
+    number = {"F-07": 7, "F-12, bay 2": 12, "F-03": 3, "G-01": 101, "H-22": 222}
+    table = pa.table(
+        {
+            "line": pa.array([r[0] for r in rows], pa.string()),
+            "fixture": pa.array([r[1] for r in rows], pa.string()),
+            "fixture_no": pa.array([number[r[1]] for r in rows], pa.int32()),
+            "fixture_raw": pa.array([r[1].encode("utf-8") for r in rows], pa.binary()),
+            "night": pa.array([int(r[2]) >= 5 for r in rows], pa.bool_()),
+            "cycle": pa.array([int(r[2]) for r in rows], pa.int64()),
+            "gap_mm": pa.array([float(r[3]) for r in rows], pa.float64()),
+            "leak": pa.array([r[4] == "1" for r in rows], pa.bool_()),
+        }
+    )
+    # Row groups of 5 rows: clusters span row groups.
+    pq.write_table(table, rel("clustered.parquet"), row_group_size=5)
+
+    nulls = pa.table(
+        {
+            "fixture": pa.array(["F-07", None, "F-07", "", "F-09"], pa.string()),
+            "gap_mm": pa.array([0.5, 1.0, 1.5, 2.0, 2.5], pa.float64()),
+        }
+    )
+    pq.write_table(nulls, rel(os.path.join("errors", "cluster_nulls.parquet")))
+
+
+def cluster_name(v):
+    """A cluster cell as text, by the documented rule (src/data/file.rs, ClusterTotal::name)."""
+    if isinstance(v, bool):
+        return "true" if v else "false"
+    if isinstance(v, bytes):
+        return "0x" + v.hex()
+    return str(v)
+
+
+def summarise_clusters(records, case):
+    low, high = case["range"]
+    binary = case["kind"] == "binary"
+    col, arm_col = case["column"], case.get("arm_column")
+    order_col, cluster_col = case.get("order_column"), case["cluster_column"]
+    arms = {}
+    order = []
+    for i, r in enumerate(records):
+        x = float(int(r[col])) if binary else float(r[col])
+        assert low <= x <= high, (case["name"], x)
+        name = str(r[arm_col]) if arm_col else "all"
+        if name not in arms:
+            arms[name] = []
+            order.append(name)
+        key = r[order_col] if order_col else i
+        if order_col and isinstance(key, str):
+            key = int(key)
+        arms[name].append((key, i, cluster_name(r[cluster_col]), x))
+    out = []
+    for name in order:
+        trials = sorted(arms[name], key=lambda t: (t[0], t[1]))
+        members = {}
+        for _, _, c, x in trials:
+            members.setdefault(c, []).append((x - low) / (high - low))
+        clusters = [{"name": c, "n": len(us), "sum": math.fsum(us)} for c, us in members.items()]
+        means = [math.fsum(us) / len(us) for us in members.values()]
+        hist = [0] * BINS
+        for m in means:
+            hist[min(int(m * BINS), BINS - 1)] += 1
+        sizes = [c["n"] for c in clusters]
+        out.append(
+            {
+                "name": name,
+                "trials": len(trials),
+                "events": sum(1 for t in trials if t[3] == 1.0) if binary else None,
+                "clusters": clusters,
+                "smallest_cluster": min(sizes),
+                "largest_cluster": max(sizes),
+                "means": means,
+                "mean_summary": {
+                    "n": len(means),
+                    "sum": math.fsum(means),
+                    "sum_sq": math.fsum(m * m for m in means),
+                    "min": min(means),
+                    "max": max(means),
+                    "split": [math.fsum(max(0.0, m - 0.5) for m in means),
+                              math.fsum(max(0.0, 0.5 - m) for m in means)],
+                },
+                "histogram": hist,
+            }
+        )
+    return out
+
+
+CLUSTER_CASES = [
+    {"name": "csv_clusters_per_arm_row_order", "file": "clustered.csv", "column": "gap_mm",
+     "arm_column": "line", "cluster_column": "fixture", "kind": "bounded", "range": [0, 4]},
+    {"name": "csv_clusters_per_arm_ordered", "file": "clustered.csv", "column": "gap_mm",
+     "arm_column": "line", "order_column": "cycle", "cluster_column": "fixture",
+     "kind": "bounded", "range": [0, 4]},
+    {"name": "csv_clusters_one_arm", "file": "clustered.csv", "column": "gap_mm",
+     "cluster_column": "fixture", "kind": "bounded", "range": [0, 4]},
+    {"name": "csv_clusters_binary", "file": "clustered.csv", "column": "leak", "arm_column": "line",
+     "cluster_column": "fixture", "kind": "binary", "range": [0, 1]},
+    {"name": "parquet_clusters_string_ordered", "file": "clustered.parquet", "column": "gap_mm",
+     "arm_column": "line", "order_column": "cycle", "cluster_column": "fixture",
+     "kind": "bounded", "range": [0, 4]},
+    {"name": "parquet_clusters_int_boolean_outcome", "file": "clustered.parquet", "column": "leak",
+     "arm_column": "line", "cluster_column": "fixture_no", "kind": "binary", "range": [0, 1]},
+    {"name": "parquet_clusters_boolean", "file": "clustered.parquet", "column": "gap_mm",
+     "cluster_column": "night", "kind": "bounded", "range": [0, 4]},
+    {"name": "parquet_clusters_bytes_ordered", "file": "clustered.parquet", "column": "gap_mm",
+     "arm_column": "line", "order_column": "cycle", "cluster_column": "fixture_raw",
+     "kind": "bounded", "range": [0, 4]},
+]
+
+
+def records_of(name):
+    if name.endswith(".parquet"):
+        return parquet_records(name)
+    return csv_records(name, "\t" if name.endswith(".tsv") else ",")
+
+
 def main():
     write_parquet_fixtures()
+    write_cluster_fixtures()
     results = []
     for case in CASES:
         name = case["file"]
@@ -240,6 +369,12 @@ def main():
     with open(os.path.join(HERE, "data_summaries.json"), "w") as f:
         json.dump({"source": "tests/reference/data_reference.py (Python csv module, pyarrow "
                    + pa.__version__ + ", math.fsum, hashlib)", "cases": results}, f, indent=1)
+        f.write("\n")
+    clustered = [dict(case, arms=summarise_clusters(records_of(case["file"]), case))
+                 for case in CLUSTER_CASES]
+    with open(os.path.join(HERE, "cluster_summaries.json"), "w") as f:
+        json.dump({"source": "tests/reference/data_reference.py (Python csv module, pyarrow "
+                   + pa.__version__ + ", math.fsum)", "cases": clustered}, f, indent=1)
         f.write("\n")
 
 
