@@ -5,8 +5,8 @@
 use crate::analysis::looks::LookContext;
 use crate::analysis::model::{LedgerInfo, LookArm, LookRecord, Verdict};
 use crate::analysis::{self, Context, model::Analysis};
-use crate::ledger::{self, Entry, EntryKind, Ledger, LockedLedger};
 use crate::error::Error;
+use crate::ledger::{self, Entry, EntryKind, Ledger, LockedLedger};
 use crate::provenance::{self, ReportDate, sha256_hex};
 use crate::report;
 use crate::spec::{self, Location, Spec, SpecError};
@@ -62,6 +62,15 @@ pub enum LedgerUse {
     Skip,
 }
 
+/// When an analysis happens: its report date and the looks before it.
+#[derive(Debug, Clone)]
+pub struct Occasion {
+    /// How the report date is found.
+    pub date: DateRule,
+    /// Where the earlier looks are known from.
+    pub looks: LookSource,
+}
+
 /// Where the looks before this one are known from.
 #[derive(Debug, Clone)]
 pub enum LookSource {
@@ -74,7 +83,10 @@ pub enum LookSource {
 /// A ledger line waiting to be appended, and the lock that keeps other runs out until then.
 #[derive(Debug)]
 pub struct PendingLook {
-    ledger: LockedLedger,
+    /// `None` while the ledger does not exist yet: it is created, and locked, only when the
+    /// look is recorded, so that a run that fails leaves nothing behind.
+    ledger: Option<LockedLedger>,
+    path: PathBuf,
     state: Ledger,
     /// The first line of a new ledger, when this run starts one.
     new_ledger: Option<Entry>,
@@ -246,8 +258,10 @@ pub fn prepare(
         path,
         &spec_name,
         &base,
-        &DateRule::Resolve(env.clone()),
-        LookSource::Ledger(ledger_use),
+        Occasion {
+            date: DateRule::Resolve(env.clone()),
+            looks: LookSource::Ledger(ledger_use),
+        },
         progress,
     )
 }
@@ -260,10 +274,13 @@ pub fn analyse_loaded(
     spec_path: &Path,
     spec_name: &str,
     base: &Path,
-    date_rule: &DateRule,
-    looks: LookSource,
+    occasion: Occasion,
     progress: &mut dyn FnMut(u64, u64),
 ) -> Result<Prepared, Error> {
+    let Occasion {
+        date: date_rule,
+        looks,
+    } = occasion;
     let template = match &spec.report.template {
         None => None,
         Some(t) if t == "default" => None,
@@ -280,7 +297,7 @@ pub fn analyse_loaded(
         }
     };
     let template_text = template.as_deref().unwrap_or(report::default_template());
-    let date = match date_rule {
+    let date = match &date_rule {
         DateRule::Resolve(env) => provenance::resolve_date(
             spec.study.date.as_ref().map(|d| (d.year, d.month, d.day)),
             env.source_date_epoch.as_deref(),
@@ -304,9 +321,7 @@ pub fn analyse_loaded(
             match u {
                 LedgerUse::Peek => {
                     let state = match fs::read(&path) {
-                        Ok(bytes) => {
-                            Ledger::parse(&bytes).map_err(|e| ledger_error(&path, e))?
-                        }
+                        Ok(bytes) => Ledger::parse(&bytes).map_err(|e| ledger_error(&path, e))?,
                         Err(e) if e.kind() == std::io::ErrorKind::NotFound => Ledger::default(),
                         Err(source) => {
                             return Err(Error::Read {
@@ -322,13 +337,19 @@ pub fn analyse_loaded(
                 LedgerUse::Record { ref time } | LedgerUse::StartNew { ref time } => {
                     let time = time.clone();
                     let start_new = matches!(u, LedgerUse::StartNew { .. });
-                    let mut locked = LockedLedger::open(&path).map_err(|e| ledger_error(&path, e))?;
+                    // A first look creates nothing until it is recorded; an existing ledger is
+                    // locked now and held until then, so that no other run can take the same
+                    // look number.
+                    let mut locked = if path.exists() {
+                        Some(LockedLedger::open(&path).map_err(|e| ledger_error(&path, e))?)
+                    } else {
+                        None
+                    };
                     // A new ledger does not read the old one: it may be the damaged file the
                     // user is leaving behind. It is set aside only when the look is recorded.
-                    let state = if start_new {
-                        Ledger::default()
-                    } else {
-                        locked.read().map_err(|e| ledger_error(&path, e))?
+                    let state = match locked.as_mut() {
+                        Some(l) if !start_new => l.read().map_err(|e| ledger_error(&path, e))?,
+                        _ => Ledger::default(),
                     };
                     let mut c = context_from(&state, &key, &file, "registered");
                     let new_ledger = start_new.then(|| Entry {
@@ -393,6 +414,7 @@ pub fn analyse_loaded(
                         c,
                         Some(PendingLook {
                             ledger: locked,
+                            path: path.clone(),
                             state,
                             new_ledger,
                             entry,
@@ -432,7 +454,28 @@ pub fn record_look(prepared: &mut Prepared) -> Result<(), Error> {
     let Some(p) = prepared.pending.as_mut() else {
         return Ok(());
     };
-    let path = p.ledger.path().to_path_buf();
+    let path = p.path.clone();
+    let fresh = p.ledger.is_none();
+    let mut locked = match p.ledger.take() {
+        Some(l) => l,
+        None => LockedLedger::open(&path).map_err(|e| ledger_error(&path, e))?,
+    };
+    if fresh {
+        let now = locked.read().map_err(|e| ledger_error(&path, e))?;
+        if !now.entries.is_empty() {
+            return Err(ledger_error(
+                &path,
+                ledger::LedgerError {
+                    line: None,
+                    column: None,
+                    kind: ledger::LedgerErrorKind::Changed,
+                    message: "another run started this ledger while this one was running; \
+                              nothing was recorded and no report was written. Run again"
+                        .to_string(),
+                },
+            ));
+        }
+    }
     let look = &prepared.analysis.looks;
     let own = look.history.last();
     let mut entry = p.entry.clone();
@@ -460,7 +503,7 @@ pub fn record_look(prepared: &mut Prepared) -> Result<(), Error> {
         })
         .collect();
     if let Some(mut first) = p.new_ledger.take() {
-        if let Some((old, sha)) = p.ledger.set_aside().map_err(|e| ledger_error(&path, e))? {
+        if let Some((old, sha)) = locked.set_aside().map_err(|e| ledger_error(&path, e))? {
             first.note = Some(format!(
                 "started with --new-ledger; the previous ledger was kept as {} (SHA-256 {sha})",
                 old.file_name()
@@ -470,11 +513,11 @@ pub fn record_look(prepared: &mut Prepared) -> Result<(), Error> {
         }
         p.state = Ledger::default();
         let (sealed, line) = p.state.seal(first);
-        p.ledger.append(&line).map_err(|e| ledger_error(&path, e))?;
+        locked.append(&line).map_err(|e| ledger_error(&path, e))?;
         p.state.entries.push(sealed);
     }
     let (sealed, line) = p.state.seal(entry);
-    p.ledger.append(&line).map_err(|e| ledger_error(&path, e))?;
+    locked.append(&line).map_err(|e| ledger_error(&path, e))?;
     p.state.entries.push(sealed);
     Ok(())
 }

@@ -378,10 +378,12 @@ fn recompute(
             Path::new(&spec_name),
             &spec_name,
             &base,
-            &DateRule::Fixed(date),
-            study::LookSource::Recorded(crate::analysis::looks::LookContext::of_results(
-                recorded,
-            )),
+            study::Occasion {
+                date: DateRule::Fixed(date),
+                looks: study::LookSource::Recorded(
+                    crate::analysis::looks::LookContext::of_results(recorded),
+                ),
+            },
             &mut |_, _| {},
         )?;
         study::render(&mut prepared)

@@ -21,10 +21,31 @@ fn example(name: &str) -> PathBuf {
         .join("study.yaml")
 }
 
-/// Run an example into a fresh output folder, with extra arguments.
+/// Copy a folder's files (one level of subfolders deep is enough for the examples).
+fn copy_folder(from: &Path, to: &Path) {
+    std::fs::create_dir_all(to).unwrap();
+    for entry in std::fs::read_dir(from).unwrap() {
+        let entry = entry.unwrap();
+        let target = to.join(entry.file_name());
+        if entry.file_type().unwrap().is_dir() {
+            copy_folder(&entry.path(), &target);
+        } else if !entry
+            .file_name()
+            .to_string_lossy()
+            .contains(".ledger.jsonl")
+        {
+            std::fs::copy(entry.path(), target).unwrap();
+        }
+    }
+}
+
+/// Run a copy of an example (so that its look ledger starts empty and stays out of the
+/// repository) into a fresh output folder, with extra arguments.
 fn run_example(name: &str, extra: &[&str]) -> (Output, tempfile::TempDir) {
     let out = tempfile::tempdir().unwrap();
-    let spec = example(name);
+    let copy = out.path().join("example");
+    copy_folder(example(name).parent().unwrap(), &copy);
+    let spec = copy.join("study.yaml");
     let mut args = vec![
         "run",
         spec.to_str().unwrap(),
@@ -450,13 +471,38 @@ fn registered_criteria_are_rechecked_by_run() {
     assert_eq!(criteria_item(&out)["status"], "checked");
     assert!(!String::from_utf8_lossy(&o.stderr).contains("warning"));
 
-    // Moving the limit after registration is flagged in the results and on stderr.
+    // Moving the limit after a recorded look is a second look at the same data, which a
+    // single planned fixed-n look cannot pay for: refused, and the ledger is left as it was
+    // (the runs so far were one look and its re-issues).
+    let ledger_path = spec.with_file_name("study.ledger.jsonl");
+    let before = std::fs::read_to_string(&ledger_path).unwrap();
+    assert!(
+        before
+            .lines()
+            .skip(1)
+            .all(|l| l.contains("\"kind\":\"re-issue\""))
+    );
     std::fs::write(&spec, registered.replace("limit: 0.01", "limit: 0.015")).unwrap();
     let o = run(&[
         "run",
         spec.to_str().unwrap(),
         "--out",
         out.to_str().unwrap(),
+    ]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(
+        String::from_utf8_lossy(&o.stderr).contains("look 2 of a study planned for 1 look"),
+        "{}",
+        String::from_utf8_lossy(&o.stderr)
+    );
+    assert_eq!(std::fs::read_to_string(&ledger_path).unwrap(), before);
+    // Explored without the ledger, the moved criteria are flagged in the results and on stderr.
+    let o = run(&[
+        "run",
+        spec.to_str().unwrap(),
+        "--out",
+        out.to_str().unwrap(),
+        "--no-ledger",
     ]);
     assert!(o.status.success());
     assert_eq!(criteria_item(&out)["status"], "open");

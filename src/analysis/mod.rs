@@ -56,13 +56,10 @@ pub struct MethodSelection {
 /// Refuse what the spec asks for but cannot be honoured, with a located message, before any
 /// computation.
 fn require_supported(spec: &Spec) -> Result<(), SpecError> {
-    if matches!(
-        spec.dependence.model,
-        spec::DependenceModel::Clustered | spec::DependenceModel::MDependent
-    ) {
+    if spec.dependence.model == spec::DependenceModel::MDependent {
         return Err(spec.error_at(
             "dependence.model",
-            "clustered and m-dependent trials are not analysed by this build yet",
+            "m-dependent trials are not analysed by this build yet",
             None,
         ));
     }
@@ -1204,7 +1201,18 @@ pub fn analyse(spec: &Spec, data: &Dataset, ctx: &Context) -> Result<Analysis, S
                 verdict: v,
                 curve: curve(selection.primary, arm, per_bound, side),
                 values,
-                nominal: None,
+                nominal: arm.nominal.map(|n| NominalInfo {
+                    trials: n.trials,
+                    events: n.events,
+                    clusters: n.clusters,
+                    smallest_cluster: n.smallest_cluster,
+                    largest_cluster: n.largest_cluster,
+                    display: NominalDisplay {
+                        trials: display::count(n.trials),
+                        clusters: display::count(n.clusters),
+                        per_cluster: format!("{:.1}", n.trials as f64 / n.clusters.max(1) as f64),
+                    },
+                }),
                 path: None,
                 display: ArmDisplay {
                     mean: scale.show(mean, Rounding::Nearest),
