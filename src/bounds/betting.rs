@@ -326,6 +326,8 @@ fn false_position(
     // Bracket widths at the start of the previous two steps.
     let mut width_two_ago = f64::INFINITY;
     let mut width_one_ago = f64::INFINITY;
+    // Whether the last step was a probe beside b that was rejected (see below).
+    let mut probe_rejected = false;
     for _ in 0..MAX_STEPS {
         let width = (b - a).abs();
         if width <= REL_TOL * b.abs().max(a.abs()) {
@@ -335,14 +337,32 @@ fn false_position(
         let hi = a.max(b);
         let mid = lo + 0.5 * (hi - lo);
         let secant = (fb - fa > 0.0 && (fb - fa).is_finite()).then(|| fb * ((b - a) / (fb - fa)));
-        if let Some(step) = secant {
-            // The interpolated root is within the tolerance of b: b is as tight as the bracket
-            // could make it (only tightness is at stake; b is verified whatever happens).
-            if step.abs() <= REL_TOL * b.abs() {
+        if let Some(step) = secant
+            && step.abs() <= REL_TOL * b.abs()
+            && !probe_rejected
+        {
+            // The interpolated root is within the tolerance of b. Interpolation can be wrong
+            // where the capital is flat over part of the bracket (and the rescaled end values
+            // make it more so), so the claim is checked: a candidate half the tolerance away
+            // from b that survives puts the edge within the tolerance of b. Only tightness is
+            // at stake; b is verified rejected whatever happens.
+            let d = 0.5 * REL_TOL * b.abs();
+            let c = if a < b { b - d } else { b + d };
+            if !(c > lo && c < hi) {
                 break;
             }
+            let fc = eval(c, false).margin;
+            if fc < 0.0 {
+                break;
+            }
+            b = c;
+            fb = fc;
+            last = 1;
+            probe_rejected = true;
+            continue;
         }
-        let force_bisect = width > 0.5 * width_two_ago;
+        let force_bisect = probe_rejected || width > 0.5 * width_two_ago;
+        probe_rejected = false;
         let mut c = match secant {
             Some(step) if !force_bisect => b - step,
             _ => mid,
