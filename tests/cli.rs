@@ -342,7 +342,10 @@ fn methods_json_lists_the_catalogue() {
             "bernstein-empirical",
             "bernstein-unexpected",
             "split-kl",
-            "betting"
+            "betting",
+            "betting-sequence",
+            "beta-binomial-mixture",
+            "eb-sequence"
         ]
     );
     assert_eq!(

@@ -51,9 +51,10 @@ pub const TRUNCATION: f64 = 0.5;
 pub const HEDGE: f64 = 0.5;
 
 /// Factors multiplied together before one logarithm is taken. Each factor lies in
-/// [1 − c, 1 + λ̇_max]; since σ̂²_{t−1} ≥ 1/(4t), λ̇_t ≤ sqrt(8 ln(1/α) t / n) < 80 for any
-/// positive f64 α (ln(1/α) < 745), so a product of 64 stays within [2^-64, 80^64] ⊂
-/// [1e-20, 1e122]: far from underflow and overflow.
+/// [1 − c, 1 + λ̇_max]; since t σ̂²_{t−1} ≥ ¼, λ̇_t ≤ sqrt(8 ln(1/α) t / n) < 80 for the
+/// fixed-n bets and λ̇_t ≤ sqrt(8 ln(1/α) / ln 2) < 93 for the sequence's, for any positive f64
+/// α (ln(1/α) < 745, ln(2/α) < 746), so a product of 64 stays within [2^-64, 93^64] ⊂
+/// [1e-20, 1e127]: far from underflow and overflow.
 const BLOCK: usize = 64;
 
 /// Root-finder budget: candidates evaluated after the bracket is found.
@@ -63,27 +64,60 @@ const MAX_STEPS: usize = 100;
 const REL_TOL: f64 = 2e-15;
 
 /// Which capital process, and which way the rejected side lies.
-#[derive(Clone, Copy, PartialEq, Eq)]
-enum Side {
+#[derive(Clone, Copy, PartialEq, Eq, Debug)]
+pub(super) enum Side {
     /// K⁻: large when m is above the data (rejects high candidates; upper bound).
     Upper,
     /// K⁺: large when m is below the data (rejects low candidates; lower bound).
     Lower,
 }
 
-/// The bet sizes λ̇_1..λ̇_n, with the sample mean and the plug-in variance σ̂²_n of all n values
-/// (for the root-finder's first guess).
-struct Bets {
-    lambda: Vec<f64>,
-    mean: f64,
-    variance: f64,
+/// How the bet sizes are tuned: to a number of trials fixed in advance, or to an open-ended
+/// sequence of trials.
+#[derive(Clone, Copy, PartialEq, Eq, Debug)]
+pub(super) enum Horizon {
+    /// λ̇_t = sqrt(2 L / (n σ̂²_{t−1})) for n = `x.len()` planned trials (the fixed-n interval).
+    Fixed,
+    /// λ̇_t = sqrt(2 L / (σ̂²_{t−1} t ln(1 + t))), which does not depend on n (the confidence
+    /// sequence, METHODS.md §7): every prefix of the bets is the bets of that prefix.
+    Open,
+}
+
+/// Where the root-finder starts: the sample mean and the plug-in variance σ̂²_t of a prefix.
+#[derive(Clone, Copy, Debug)]
+pub(super) struct Guess {
+    /// Mean of the prefix.
+    pub(super) mean: f64,
+    /// Plug-in variance σ̂²_t of the prefix.
+    pub(super) variance: f64,
+}
+
+/// The bet sizes λ̇_1..λ̇_n, with the root-finder's first guess for the whole sample and, when
+/// asked for, for some of its prefixes.
+pub(super) struct Bets {
+    pub(super) lambda: Vec<f64>,
+    pub(super) horizon: Horizon,
+    pub(super) whole: Guess,
+    /// The guesses of the prefixes of lengths `marks` (as passed to [`bets_marked`]).
+    pub(super) marks: Vec<Guess>,
 }
 
 /// The bets for the tuning ln(1/α) = `tuning`; `None` if a value is outside [0, 1] or NaN.
+fn bets(x: &[f64], tuning: f64) -> Option<Bets> {
+    bets_marked(x, tuning, Horizon::Fixed, &[])
+}
+
+/// The bets for the tuning ln(1/α) = `tuning` and `horizon`, with the guesses of the prefixes
+/// of lengths `marks` (ascending, each in 1..=n); `None` if a value is outside [0, 1] or NaN.
 ///
 /// The running sums are plain sequential f64 sums: the bets need only be functions of the past,
 /// not accurate ones, and a sequential sum makes them reproducible bit for bit elsewhere.
-fn bets(x: &[f64], tuning: f64) -> Option<Bets> {
+pub(super) fn bets_marked(
+    x: &[f64],
+    tuning: f64,
+    horizon: Horizon,
+    marks: &[usize],
+) -> Option<Bets> {
     if x.iter().any(|v| !(0.0..=1.0).contains(v)) {
         return None;
     }
@@ -91,30 +125,57 @@ fn bets(x: &[f64], tuning: f64) -> Option<Bets> {
     // First pass (sequential): lambda[i] holds ¼ + Σ_{j<i} (x_j − μ̂_j)², i.e. (t σ̂²_{t−1})
     // for t = i + 1, with ½ + Σ x as the running sum behind μ̂.
     let mut lambda = Vec::with_capacity(x.len());
+    let mut guesses = Vec::with_capacity(marks.len());
+    let mut next_mark = marks.iter().peekable();
     let mut sum = 0.5;
     let mut sq = 0.25;
     let mut t_next = 2.0;
-    for &xi in x {
+    for (i, &xi) in x.iter().enumerate() {
         lambda.push(sq);
         sum += xi;
         let d = xi - sum / t_next;
         sq += d * d;
         t_next += 1.0;
+        while next_mark.next_if(|&&m| m <= i + 1).is_some() {
+            // After t = i + 1 values: mean (sum − ½)/t and σ̂²_t = sq / (t + 1).
+            let t = (i + 1) as f64;
+            guesses.push(Guess {
+                mean: (sum - 0.5) / t,
+                variance: sq / (t_next - 1.0),
+            });
+        }
     }
-    // Second pass (independent per element, so it vectorises): λ̇_t = sqrt(2 L t / (n · that)).
-    let scale = 2.0 * tuning / n;
-    for (c, chunk) in lambda.chunks_mut(1024).enumerate() {
-        let base = (c * 1024) as f64 + 1.0;
-        for (j, v) in chunk.iter_mut().enumerate() {
-            let t = base + (j as i32) as f64;
-            *v = (scale * t / *v).sqrt();
+    match horizon {
+        Horizon::Fixed => {
+            // Second pass (independent per element, so it vectorises):
+            // λ̇_t = sqrt(2 L t / (n · that)).
+            let scale = 2.0 * tuning / n;
+            for (c, chunk) in lambda.chunks_mut(1024).enumerate() {
+                let base = (c * 1024) as f64 + 1.0;
+                for (j, v) in chunk.iter_mut().enumerate() {
+                    let t = base + (j as i32) as f64;
+                    *v = (scale * t / *v).sqrt();
+                }
+            }
+        }
+        Horizon::Open => {
+            // λ̇_t = sqrt(2 L / (that · ln(1 + t))), since that = t σ̂²_{t−1}.
+            let scale = 2.0 * tuning;
+            for (i, v) in lambda.iter_mut().enumerate() {
+                let t = (i + 1) as f64;
+                *v = (scale / (*v * t.ln_1p())).sqrt();
+            }
         }
     }
     Some(Bets {
         lambda,
-        mean: (sum - 0.5) / n,
-        // σ̂²_n = (¼ + Σ_{i≤n} (x_i − μ̂_i)²) / (n + 1); t_next is n + 2 here.
-        variance: sq / (t_next - 1.0),
+        horizon,
+        whole: Guess {
+            mean: (sum - 0.5) / n,
+            // σ̂²_n = (¼ + Σ_{i≤n} (x_i − μ̂_i)²) / (n + 1); t_next is n + 2 here.
+            variance: sq / (t_next - 1.0),
+        },
+        marks: guesses,
     })
 }
 
@@ -219,11 +280,41 @@ fn error_bound(t: usize, abs_logs: f64, value: f64) -> f64 {
     0.5 * f64::EPSILON * (4.0 * t as f64 + 4.0 * abs_logs + 2.0 * value.abs() + 8.0)
 }
 
-/// The one-sided bound for `side` at threshold `thr`, given the bets. Upper: the smallest
-/// verified-rejected candidate found (1 if even m = 1 is not rejected). Lower: the largest
-/// (0 if m = 0 is not rejected).
+/// How closely the root-finder closes in on the edge of the rejected set. The value returned is
+/// a verified-rejected candidate whatever the precision; a looser one only makes it larger
+/// (upper) or smaller (lower) than it could be.
+#[derive(Clone, Copy, Debug)]
+pub(super) struct Precision {
+    /// Candidates evaluated after the bracket is found, at most.
+    pub(super) max_steps: usize,
+    /// Relative width at which the bracket is considered closed.
+    pub(super) rel_tol: f64,
+}
+
+/// The precision of reported bounds.
+pub(super) const FULL: Precision = Precision {
+    max_steps: MAX_STEPS,
+    rel_tol: REL_TOL,
+};
+
+/// The one-sided bound for `side` at threshold `thr`, given the whole sample's bets.
 fn solve(x: &[f64], b: &Bets, side: Side, thr: f64) -> f64 {
-    let lambda = &b.lambda;
+    solve_prefix(x, &b.lambda, b.horizon, b.whole, side, thr, FULL)
+}
+
+/// The one-sided bound for `side` at threshold `thr` from the observations `x` and their bets
+/// `lambda` (of equal length), over the running maximum of the capital for every t ≤ `x.len()`.
+/// Upper: the smallest verified-rejected candidate found (1 if even m = 1 is not rejected).
+/// Lower: the largest (0 if m = 0 is not rejected).
+pub(super) fn solve_prefix(
+    x: &[f64],
+    lambda: &[f64],
+    horizon: Horizon,
+    guess: Guess,
+    side: Side,
+    thr: f64,
+    precision: Precision,
+) -> f64 {
     let eval = |m: f64, early: bool| scan(x, lambda, m, side, thr, early);
     // The far end: every factor at m = 0 (upper) or m = 1 (lower) is at most 1, so the near
     // end is never rejected; the far end may not be either, and then the bound is vacuous.
@@ -239,13 +330,18 @@ fn solve(x: &[f64], b: &Bets, side: Side, thr: f64) -> f64 {
         Side::Lower => (m - r).max(0.0),
     };
     // Bracket: a = not rejected, b = rejected. The first guess is the Bernstein-like width
-    // sqrt(2 σ̂² L / n) plus the truncation-limited width L / (c n) for near-constant data.
+    // sqrt(2 σ̂² L / n) plus the truncation-limited width L / (c n) for near-constant data;
+    // the sequence's bets are smaller by about sqrt(ln(1 + n)), its width larger by as much.
     let n = x.len() as f64;
-    let mut r = (2.0 * b.variance * thr / n).sqrt() + thr / (TRUNCATION * n);
+    let spread = match horizon {
+        Horizon::Fixed => 2.0 * guess.variance * thr / n,
+        Horizon::Open => 2.0 * guess.variance * thr * n.ln_1p() / n,
+    };
+    let mut r = spread.sqrt() + thr / (TRUNCATION * n);
     if !(r > 0.0 && r.is_finite()) {
         r = 0.5;
     }
-    let start = b.mean.clamp(0.0, 1.0);
+    let start = guess.mean.clamp(0.0, 1.0);
     let m0 = toward_far(start, r);
     let s0 = eval(m0, false);
     let (a, fa, rb, fb) = if s0.rejected() {
@@ -307,7 +403,7 @@ fn solve(x: &[f64], b: &Bets, side: Side, thr: f64) -> f64 {
             fa = s.margin;
         }
     };
-    false_position(&eval, a, fa, rb, fb)
+    false_position(&eval, a, fa, rb, fb, precision)
 }
 
 /// Safeguarded false position with the Anderson–Björck rescaling of the retained end, on a
@@ -320,29 +416,51 @@ fn false_position(
     mut fa: f64,
     mut b: f64,
     mut fb: f64,
+    precision: Precision,
 ) -> f64 {
+    let Precision { max_steps, rel_tol } = precision;
     // Which end the previous step replaced: +1 for b, -1 for a.
     let mut last: i8 = 0;
     // Bracket widths at the start of the previous two steps.
     let mut width_two_ago = f64::INFINITY;
     let mut width_one_ago = f64::INFINITY;
-    for _ in 0..MAX_STEPS {
+    // Whether the last step was a probe beside b that was rejected (see below).
+    let mut probe_rejected = false;
+    for _ in 0..max_steps {
         let width = (b - a).abs();
-        if width <= REL_TOL * b.abs().max(a.abs()) {
+        if width <= rel_tol * b.abs().max(a.abs()) {
             break;
         }
         let lo = a.min(b);
         let hi = a.max(b);
         let mid = lo + 0.5 * (hi - lo);
         let secant = (fb - fa > 0.0 && (fb - fa).is_finite()).then(|| fb * ((b - a) / (fb - fa)));
-        if let Some(step) = secant {
-            // The interpolated root is within the tolerance of b: b is as tight as the bracket
-            // could make it (only tightness is at stake; b is verified whatever happens).
-            if step.abs() <= REL_TOL * b.abs() {
+        if let Some(step) = secant
+            && step.abs() <= rel_tol * b.abs()
+            && !probe_rejected
+        {
+            // The interpolated root is within the tolerance of b. Interpolation can be wrong
+            // where the capital is flat over part of the bracket (and the rescaled end values
+            // make it more so), so the claim is checked: a candidate half the tolerance away
+            // from b that survives puts the edge within the tolerance of b. Only tightness is
+            // at stake; b is verified rejected whatever happens.
+            let d = 0.5 * rel_tol * b.abs();
+            let c = if a < b { b - d } else { b + d };
+            if !(c > lo && c < hi) {
                 break;
             }
+            let fc = eval(c, false).margin;
+            if fc < 0.0 {
+                break;
+            }
+            b = c;
+            fb = fc;
+            last = 1;
+            probe_rejected = true;
+            continue;
         }
-        let force_bisect = width > 0.5 * width_two_ago;
+        let force_bisect = probe_rejected || width > 0.5 * width_two_ago;
+        probe_rejected = false;
         let mut c = match secant {
             Some(step) if !force_bisect => b - step,
             _ => mid,
@@ -383,7 +501,7 @@ fn false_position(
 }
 
 /// Checks `delta`, the observations and their agreement with the summary.
-fn observations<'a>(sample: &Sample<'a>, delta: f64) -> Option<&'a [f64]> {
+pub(super) fn observations<'a>(sample: &Sample<'a>, delta: f64) -> Option<&'a [f64]> {
     let x = sample.observations?;
     let ok = delta > 0.0 && delta < 1.0 && !x.is_empty() && sample.summary.n == x.len() as u64;
     ok.then_some(x)

@@ -59,11 +59,7 @@ const MAX_ITER: usize = 300;
 
 #[inline]
 fn below(x: Prob, y: Prob) -> bool {
-    if x.p() <= 0.5 || y.p() <= 0.5 {
-        x.p() < y.p()
-    } else {
-        x.q() > y.q()
-    }
+    x.below(y)
 }
 
 fn solve(k: u64, n: u64, delta: f64, ln_delta: f64) -> Prob {

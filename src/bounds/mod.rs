@@ -6,8 +6,12 @@
 
 pub mod bernstein_empirical;
 pub mod bernstein_unexpected;
+pub mod beta_binomial;
 pub mod betting;
+pub mod betting_sequence;
+mod checkpoints;
 pub mod chernoff_kl;
+pub mod eb_sequence;
 pub mod exact;
 pub mod hoeffding;
 pub mod sample;
@@ -94,6 +98,47 @@ pub struct CountBounds {
     pub upper: fn(u64, u64, f64) -> f64,
     /// One-sided lower bound.
     pub lower: fn(u64, u64, f64) -> f64,
+    /// A two-sided interval `(lower, upper)` at total error delta, for methods built
+    /// two-sided.
+    pub interval: Option<CountIntervalFn>,
+}
+
+/// A two-sided interval `(lower, upper)` on a binary rate from counts at total error `delta`:
+/// `(events, trials, delta) -> (lower, upper)` with `P(lower <= rate <= upper) >= 1 - delta`.
+pub type CountIntervalFn = fn(u64, u64, f64) -> (f64, f64);
+
+/// Which end of a bound a path follows.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum End {
+    /// The upper bound (running minimum).
+    Upper,
+    /// The lower bound (running maximum).
+    Lower,
+}
+
+/// Running bound over a growing prefix of ordered observations in [0, 1]:
+/// `(x, delta, end, two_sided, checkpoints) -> one value per checkpoint`.
+///
+/// `checkpoints` are ascending trial counts t with 1 <= t <= x.len(); the value at t is the
+/// bound after the first t observations, intersected over every s <= t (running minimum of upper
+/// ends / running maximum of lower ends). `two_sided`: for a method built two-sided, the
+/// requested end of its interval at total error delta; otherwise the one-sided bound at delta.
+/// For an anytime method every value holds at once with probability at least 1 − delta.
+/// Checkpoints outside 1..=x.len(), and every checkpoint on invalid input, get the vacuous value
+/// (1 for an upper end, 0 for a lower one).
+pub type PathFn = fn(&[f64], f64, End, bool, &[u64]) -> Vec<f64>;
+
+/// Hoeffding in Janson's (2004) dependency-graph form for m-dependent trials:
+/// `(mean, n, m, delta) -> bound`, U = mean + sqrt((m + 1) ln(1/delta) / (2 n)).
+///
+/// Each function covers the average mean of n observations in [0, 1] with probability at least
+/// 1 − delta when observations more than m apart are independent (n and m fixed in advance).
+#[derive(Debug, Clone, Copy)]
+pub struct MDependentBounds {
+    /// One-sided upper bound.
+    pub upper: fn(f64, u64, u64, f64) -> f64,
+    /// One-sided lower bound.
+    pub lower: fn(f64, u64, u64, f64) -> f64,
 }
 
 /// A two-sided interval `(lower, upper)` on the mean of values rescaled to [0, 1] at total
@@ -146,6 +191,12 @@ pub struct Method {
     /// Bounds from bounded observations rescaled to [0, 1].
     #[serde(skip)]
     pub bounded: Option<BoundedBounds>,
+    /// The bound along the trials, for methods that can follow a stream of observations.
+    #[serde(skip)]
+    pub path: Option<PathFn>,
+    /// Bounds for m-dependent trials, for methods that have a dependency-graph form.
+    #[serde(skip)]
+    pub m_dependent: Option<MDependentBounds>,
 }
 
 impl Method {
@@ -275,7 +326,7 @@ pub static CATALOGUE: &[Method] = &[
         citation: "C. J. Clopper and E. S. Pearson (1934), \"The use of confidence or fiducial \
                    limits illustrated in the case of the binomial\", Biometrika 26(4):404–413.",
         outcomes: &[OutcomeKind::Binary],
-        dependence: &[Dependence::Independent],
+        dependence: &[Dependence::Independent, Dependence::Martingale],
         guarantee: Guarantee::FixedN,
         two_sided_built: false,
         assumptions: &[
@@ -289,8 +340,11 @@ pub static CATALOGUE: &[Method] = &[
         counts: Some(CountBounds {
             upper: exact::upper,
             lower: exact::lower,
+            interval: None,
         }),
         bounded: None,
+        path: None,
+        m_dependent: None,
     },
     Method {
         id: "chernoff-kl",
@@ -305,7 +359,11 @@ pub static CATALOGUE: &[Method] = &[
                    variables\", J. Amer. Statist. Assoc. 58(301):13–30; H. Chernoff (1952), \
                    Ann. Math. Statist. 23(4):493–507.",
         outcomes: &[OutcomeKind::Binary, OutcomeKind::Bounded],
-        dependence: &[Dependence::Independent, Dependence::Martingale],
+        dependence: &[
+            Dependence::Independent,
+            Dependence::Martingale,
+            Dependence::Clustered,
+        ],
         guarantee: Guarantee::FixedN,
         two_sided_built: false,
         assumptions: &[
@@ -317,6 +375,7 @@ pub static CATALOGUE: &[Method] = &[
         counts: Some(CountBounds {
             upper: chernoff_kl::upper,
             lower: chernoff_kl::lower,
+            interval: None,
         }),
         bounded: Some(BoundedBounds {
             needs: Needs::Mean,
@@ -324,6 +383,8 @@ pub static CATALOGUE: &[Method] = &[
             lower: chernoff_kl::lower_sample,
             interval: None,
         }),
+        path: None,
+        m_dependent: None,
     },
     Method {
         id: "hoeffding",
@@ -337,7 +398,12 @@ pub static CATALOGUE: &[Method] = &[
         citation: "W. Hoeffding (1963), \"Probability inequalities for sums of bounded random \
                    variables\", J. Amer. Statist. Assoc. 58(301):13–30, Theorem 2.",
         outcomes: &[OutcomeKind::Binary, OutcomeKind::Bounded],
-        dependence: &[Dependence::Independent, Dependence::Martingale],
+        dependence: &[
+            Dependence::Independent,
+            Dependence::Martingale,
+            Dependence::Clustered,
+            Dependence::MDependent,
+        ],
         guarantee: Guarantee::FixedN,
         two_sided_built: false,
         assumptions: &[
@@ -349,12 +415,18 @@ pub static CATALOGUE: &[Method] = &[
         counts: Some(CountBounds {
             upper: hoeffding::upper,
             lower: hoeffding::lower,
+            interval: None,
         }),
         bounded: Some(BoundedBounds {
             needs: Needs::Mean,
             upper: hoeffding::upper_sample,
             lower: hoeffding::lower_sample,
             interval: None,
+        }),
+        path: None,
+        m_dependent: Some(MDependentBounds {
+            upper: hoeffding::upper_m_dependent,
+            lower: hoeffding::lower_m_dependent,
         }),
     },
     Method {
@@ -389,6 +461,8 @@ pub static CATALOGUE: &[Method] = &[
             lower: bernstein_empirical::lower,
             interval: None,
         }),
+        path: None,
+        m_dependent: None,
     },
     Method {
         id: "bernstein-unexpected",
@@ -426,6 +500,8 @@ pub static CATALOGUE: &[Method] = &[
             lower: bernstein_unexpected::lower,
             interval: None,
         }),
+        path: None,
+        m_dependent: None,
     },
     Method {
         id: "split-kl",
@@ -460,6 +536,8 @@ pub static CATALOGUE: &[Method] = &[
             lower: split_kl::lower,
             interval: None,
         }),
+        path: None,
+        m_dependent: None,
     },
     Method {
         id: "betting",
@@ -476,7 +554,11 @@ pub static CATALOGUE: &[Method] = &[
         citation: "I. Waudby-Smith and A. Ramdas (2024), \"Estimating means of bounded random \
                    variables by betting\", J. R. Stat. Soc. B 86(1):1–27 (arXiv:2010.09686).",
         outcomes: &[OutcomeKind::Bounded],
-        dependence: &[Dependence::Independent, Dependence::Martingale],
+        dependence: &[
+            Dependence::Independent,
+            Dependence::Martingale,
+            Dependence::Clustered,
+        ],
         guarantee: Guarantee::FixedN,
         two_sided_built: true,
         assumptions: &[
@@ -493,6 +575,131 @@ pub static CATALOGUE: &[Method] = &[
             lower: betting::lower,
             interval: Some(betting::interval),
         }),
+        path: None,
+        m_dependent: None,
+    },
+    Method {
+        id: "betting-sequence",
+        name: "Betting confidence sequence (Waudby-Smith–Ramdas)",
+        statement: "As for the betting bound, a gambler bets against every candidate mean with \
+                    stakes set from earlier values only, but the stakes shrink with the number \
+                    of trials seen instead of a planned total. The capital is then a fair game \
+                    however long testing runs, and by Ville's inequality it ever reaches 1/δ \
+                    with probability at most δ: the bound holds at every number of trials at \
+                    once, so testing may stop or continue because of the results seen. The \
+                    bound after t trials is the edge of the candidates whose capital stayed \
+                    below 1/δ at every trial so far.",
+        formula_typst: "U_t = inf {m : max_(s <= t) product_(i=1)^s (1 + lambda_i (m) (m - x_i)) \
+                        >= 1 slash delta}, quad lambda_i (m) = min(sqrt((2 ln(1 slash delta)) \
+                        / (hat(sigma)_(i-1)^2 dot i ln(1 + i))), 1 / (2 (1 - m)))",
+        citation: "I. Waudby-Smith and A. Ramdas (2024), \"Estimating means of bounded random \
+                   variables by betting\", J. R. Stat. Soc. B 86(1):1–27 (arXiv:2010.09686); \
+                   J. Ville (1939), Étude critique de la notion de collectif, Gauthier-Villars.",
+        outcomes: &[OutcomeKind::Bounded],
+        dependence: &[
+            Dependence::Independent,
+            Dependence::Martingale,
+            Dependence::Clustered,
+        ],
+        guarantee: Guarantee::Anytime,
+        two_sided_built: true,
+        assumptions: &[
+            "values-in-range",
+            "constant-conditional-mean",
+            "complete-records",
+            "representative-trials",
+        ],
+        counts: None,
+        bounded: Some(BoundedBounds {
+            needs: Needs::Observations,
+            upper: betting_sequence::upper,
+            lower: betting_sequence::lower,
+            interval: Some(betting_sequence::interval),
+        }),
+        path: Some(betting_sequence::path),
+        m_dependent: None,
+    },
+    Method {
+        id: "beta-binomial-mixture",
+        name: "Beta-binomial mixture (Robbins)",
+        statement: "For every candidate rate p, the likelihood of the trials so far under an \
+                    alternative rate, averaged over a uniform prior fixed in advance and divided \
+                    by their likelihood under p, is a fair game when p is the true rate. By \
+                    Ville's inequality it ever reaches 1/δ with probability at most δ, so the \
+                    rates it has never rejected form a bound that holds at every number of \
+                    trials at once: testing may stop or continue because of the results seen. \
+                    The one-sided bound averages over alternatives on one side of p only; the \
+                    two-sided interval averages over all of them at total error δ.",
+        formula_typst: "U_t = sup {p : (integral_0^p q^(S_t) (1-q)^(t - S_t) dif q) \
+                        / (p^(S_t + 1) (1-p)^(t - S_t)) < 1 slash delta}, quad \
+                        \"two-sided:\" {p : B(1 + S_t, 1 + t - S_t) \
+                        / (p^(S_t) (1-p)^(t - S_t)) < 1 slash delta}",
+        citation: "H. Robbins (1970), \"Statistical methods related to the law of the iterated \
+                   logarithm\", Ann. Math. Statist. 41(5):1397–1409; S. R. Howard, A. Ramdas, \
+                   J. McAuliffe and J. Sekhon (2021), \"Time-uniform, nonparametric, \
+                   nonasymptotic confidence sequences\", Ann. Statist. 49(2):1055–1080.",
+        outcomes: &[OutcomeKind::Binary],
+        dependence: &[Dependence::Independent, Dependence::Martingale],
+        guarantee: Guarantee::Anytime,
+        two_sided_built: true,
+        assumptions: &[
+            "whole-counts",
+            "constant-conditional-mean",
+            "complete-records",
+            "representative-trials",
+        ],
+        counts: Some(CountBounds {
+            upper: beta_binomial::upper,
+            lower: beta_binomial::lower,
+            interval: Some(beta_binomial::interval),
+        }),
+        bounded: None,
+        path: Some(beta_binomial::path),
+        m_dependent: None,
+    },
+    Method {
+        id: "eb-sequence",
+        name: "Empirical-Bernstein confidence sequence (Waudby-Smith–Ramdas)",
+        statement: "A closed form valid at every number of trials at once: each trial's \
+                    deviation from the mean is weighted by a rate set from earlier values only, \
+                    and a variance term estimated from the trials so far pays for the spread. \
+                    The product of the resulting factors never grows on average under the true \
+                    mean, so by Ville's inequality it ever reaches 1/δ with probability at most \
+                    δ, and testing may stop or continue because of the results seen. The centre \
+                    is a weighted mean of the values, not their plain average.",
+        formula_typst: "U_t = min_(s <= t) (sum_(i=1)^s lambda_i x_i + ln(1 slash delta) \
+                        + sum_(i=1)^s (x_i - hat(mu)_(i-1))^2 psi(lambda_i)) \
+                        / (sum_(i=1)^s lambda_i), quad psi(lambda) = -ln(1 - lambda) - lambda, \
+                        quad lambda_i = min(sqrt((2 ln(1 slash delta)) \
+                        / (hat(sigma)_(i-1)^2 dot i ln(1 + i))), 1/2)",
+        citation: "I. Waudby-Smith and A. Ramdas (2024), \"Estimating means of bounded random \
+                   variables by betting\", J. R. Stat. Soc. B 86(1):1–27 (arXiv:2010.09686), \
+                   predictable plug-in empirical-Bernstein confidence sequence; X. Fan, \
+                   I. Grama and Q. Liu (2012), \"Hoeffding's inequality for supermartingales\", \
+                   Stochastic Process. Appl. 122(10):3545–3559.",
+        outcomes: &[OutcomeKind::Bounded],
+        dependence: &[
+            Dependence::Independent,
+            Dependence::Martingale,
+            Dependence::Clustered,
+        ],
+        guarantee: Guarantee::Anytime,
+        two_sided_built: false,
+        assumptions: &[
+            "values-in-range",
+            "constant-conditional-mean",
+            "complete-records",
+            "representative-trials",
+        ],
+        counts: None,
+        bounded: Some(BoundedBounds {
+            needs: Needs::Observations,
+            upper: eb_sequence::upper,
+            lower: eb_sequence::lower,
+            interval: None,
+        }),
+        path: Some(eb_sequence::path),
+        m_dependent: None,
     },
 ];
 

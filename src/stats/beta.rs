@@ -88,6 +88,13 @@ impl TailEval {
         self.side(true)
     }
 
+    /// `ln I_x(a, b)` and the ratio of the density to `I_x(a, b)`, which is
+    /// `d/dx ln I_x(a, b)`.
+    #[inline]
+    pub(crate) fn lower_with_hazard(self) -> (f64, f64) {
+        self.side(false)
+    }
+
     /// `ln(1 - I_x(a, b))`.
     pub(crate) fn ln_upper(self) -> f64 {
         self.side(true).0
@@ -456,10 +463,15 @@ fn prob_arg(p: f64) -> Prob {
 /// for every n up to 2^53 (no cancellation between log-gammas). `p` is clamped to
 /// [0, 1]; NaN counts as 0. Returns -inf for impossible outcomes.
 pub fn ln_binom_pmf(k: u64, n: u64, p: f64) -> f64 {
+    ln_binom_pmf_at(k, n, prob_arg(p))
+}
+
+/// [`ln_binom_pmf`] at a point carried with its complement, so that rates close to 1 keep
+/// full precision in `1 - p`.
+pub(crate) fn ln_binom_pmf_at(k: u64, n: u64, x: Prob) -> f64 {
     if k > n {
         return f64::NEG_INFINITY;
     }
-    let x = prob_arg(p);
     if x.p() == 0.0 {
         return if k == 0 { 0.0 } else { f64::NEG_INFINITY };
     }

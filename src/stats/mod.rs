@@ -10,7 +10,7 @@ mod special;
 pub mod sum;
 mod tables;
 
-pub(crate) use beta::BetaTail;
+pub(crate) use beta::{BetaTail, ln_binom_pmf_at};
 pub use beta::{ln_beta_inc, ln_beta_inc_complement, ln_binom_cdf, ln_binom_pmf, ln_binom_sf};
 pub(crate) use normal::norm_isf_approx;
 pub use normal::{ln_norm_sf, mills_ratio};

@@ -109,6 +109,16 @@ impl Prob {
         }
     }
 
+    /// Whether `self.p < other.p`, compared on whichever coordinate is held exactly (p, or
+    /// 1 − p when both are above ½).
+    pub(crate) fn below(self, other: Prob) -> bool {
+        if self.p <= 0.5 || other.p <= 0.5 {
+            self.p < other.p
+        } else {
+            self.q > other.q
+        }
+    }
+
     /// Whether `p` is the smaller (directly held) coordinate.
     pub(crate) fn p_is_primary(self) -> bool {
         self.p <= self.q
