@@ -586,10 +586,12 @@ fn load_data(
     }
     let keep = analysis::select_methods(spec)
         .map(|s| {
-            std::iter::once(s.primary).chain(s.compare).any(|m| {
-                m.bounded
-                    .is_some_and(|b| b.needs == crate::bounds::Needs::Observations)
-            })
+            // An anytime primary draws its bound along the trials, which needs the stream.
+            s.primary.path.is_some() && s.primary.guarantee == crate::bounds::Guarantee::Anytime
+                || std::iter::once(s.primary).chain(s.compare).any(|m| {
+                    m.bounded
+                        .is_some_and(|b| b.needs == crate::bounds::Needs::Observations)
+                })
         })
         .unwrap_or(false);
     match crate::data::read(spec, base, keep, progress) {

@@ -56,13 +56,6 @@ pub struct MethodSelection {
 /// Refuse what the spec asks for but cannot be honoured, with a located message, before any
 /// computation.
 fn require_supported(spec: &Spec) -> Result<(), SpecError> {
-    if spec.dependence.model == spec::DependenceModel::MDependent {
-        return Err(spec.error_at(
-            "dependence.model",
-            "m-dependent trials are not analysed by this build yet",
-            None,
-        ));
-    }
     for id in spec.attestations.keys() {
         if bounds::assumption(id).is_none() {
             let known: Vec<&str> = bounds::ASSUMPTIONS.iter().map(|a| a.id).collect();
@@ -358,13 +351,33 @@ fn computable(method: &Method, arm: &Arm) -> bool {
 
 /// Upper and lower bound of one method on one arm, in [0, 1] units, at `delta` per side
 /// (for a method built two-sided and a two-sided claim: `delta` is the interval's total).
-fn raw_bounds(method: &Method, arm: &Arm, delta: f64, two_sided_built: bool) -> (f64, f64) {
+/// `m`: the dependence distance of an m-dependent model, for methods with Janson's form.
+fn raw_bounds(
+    method: &Method,
+    arm: &Arm,
+    delta: f64,
+    two_sided_built: bool,
+    m: Option<u64>,
+) -> (f64, f64) {
+    if let (Some(m), Some(j)) = (m, method.m_dependent) {
+        let mean = match &arm.values {
+            Values::Counts { events } => *events as f64 / arm.n as f64,
+            Values::Bounded(v) => v.summary.mean(),
+        };
+        return (
+            (j.lower)(mean, arm.n, m, delta),
+            (j.upper)(mean, arm.n, m, delta),
+        );
+    }
     match &arm.values {
         Values::Counts { events } => match method.counts {
-            Some(c) => (
-                (c.lower)(*events, arm.n, delta),
-                (c.upper)(*events, arm.n, delta),
-            ),
+            Some(c) => match (two_sided_built, c.interval) {
+                (true, Some(interval)) => interval(*events, arm.n, delta),
+                _ => (
+                    (c.lower)(*events, arm.n, delta),
+                    (c.upper)(*events, arm.n, delta),
+                ),
+            },
             None => (0.0, 1.0),
         },
         Values::Bounded(v) => {
@@ -383,16 +396,79 @@ fn raw_bounds(method: &Method, arm: &Arm, delta: f64, two_sided_built: bool) -> 
     }
 }
 
-fn bound_result(
+/// An anytime method's running bound over the cumulative number of trials, with the arm's
+/// recorded looks marked on it: `None` for a fixed-n method or without the ordered stream.
+fn bound_path(
     method: &Method,
     arm: &Arm,
     delta: f64,
     side: Side,
-    full: bool,
     scale: &Scale,
+    looks: &[(u64, Option<f64>)],
+) -> Option<BoundPath> {
+    if method.guarantee != bounds::Guarantee::Anytime {
+        return None;
+    }
+    let path = method.path?;
+    let x: &[f64] = match &arm.values {
+        Values::Bounded(v) => v.observations.as_deref()?,
+        Values::Counts { .. } => arm.ordered.as_deref()?,
+    };
+    let n = x.len() as u64;
+    if n == 0 {
+        return None;
+    }
+    let steps = 120u64.min(n);
+    let mut checkpoints: Vec<u64> = (0..=steps)
+        .map(|i| {
+            let t = i as f64 / steps as f64;
+            ((n as f64).powf(t)).round().clamp(1.0, n as f64) as u64
+        })
+        .collect();
+    checkpoints.extend(looks.iter().map(|l| l.0).filter(|&t| t >= 1 && t <= n));
+    checkpoints.sort_unstable();
+    checkpoints.dedup();
+    let upper = deciding_is_upper(side);
+    let end = if upper {
+        bounds::End::Upper
+    } else {
+        bounds::End::Lower
+    };
+    let two_sided = side == Side::TwoSided && method.two_sided_built;
+    let values = path(x, delta, end, two_sided, &checkpoints);
+    let rounding = if upper { Rounding::Up } else { Rounding::Down };
+    Some(BoundPath {
+        bound: if upper { "upper" } else { "lower" }.to_string(),
+        points: checkpoints
+            .iter()
+            .zip(values)
+            .map(|(&t, v)| [t as f64, scale.to_data(v, rounding)])
+            .collect(),
+        looks: looks
+            .iter()
+            .filter_map(|&(t, b)| b.map(|b| [t as f64, b]))
+            .collect(),
+    })
+}
+
+/// What every bound of one analysis shares: the claim's side, the data units and the
+/// dependence distance of an m-dependent model.
+struct Setting<'a> {
+    side: Side,
+    scale: &'a Scale,
+    m: Option<u64>,
+}
+
+fn bound_result(
+    method: &Method,
+    arm: &Arm,
+    delta: f64,
+    full: bool,
+    setting: &Setting,
 ) -> BoundResult {
+    let (side, scale) = (setting.side, setting.scale);
     let built = side == Side::TwoSided && method.two_sided_built;
-    let (lo, hi) = raw_bounds(method, arm, delta, built);
+    let (lo, hi) = raw_bounds(method, arm, delta, built, setting.m);
     let want_upper = full || deciding_is_upper(side);
     let want_lower = full || !deciding_is_upper(side);
     let vacuous = if deciding_is_upper(side) {
@@ -662,7 +738,11 @@ fn checklist(spec: &Spec, primary: &Method, arms: &[Arm]) -> Vec<ChecklistItem> 
             ids.push(id);
         }
     }
-    if !ids.contains(&model_id) {
+    // A method that needs only a constant conditional mean already names what independent
+    // trials with one common mean provide; any other model is always stated.
+    let covered = spec.dependence.model == spec::DependenceModel::Independent
+        && ids.contains(&"constant-conditional-mean");
+    if !ids.contains(&model_id) && !covered {
         ids.insert(0, model_id);
     }
     ids.iter()
@@ -706,8 +786,8 @@ fn checklist(spec: &Spec, primary: &Method, arms: &[Arm]) -> Vec<ChecklistItem> 
         .collect()
 }
 
-fn method_info(method: &Method, role: &str) -> MethodInfo {
-    MethodInfo {
+fn method_info(method: &Method, role: &str, m: Option<u64>) -> MethodInfo {
+    let mut info = MethodInfo {
         id: method.id.to_string(),
         name: method.name.to_string(),
         role: role.to_string(),
@@ -716,7 +796,39 @@ fn method_info(method: &Method, role: &str) -> MethodInfo {
         formula_typst: method.formula_typst.to_string(),
         guarantee: method.guarantee.id().to_string(),
         assumptions: method.assumptions.iter().map(|s| s.to_string()).collect(),
+    };
+    // Under an m-dependent model the bound computed is Janson's form, so that is what the
+    // appendix must state and cite.
+    if let (Some(m), Some(_)) = (m, method.m_dependent) {
+        info.name = format!("{} (Janson form, m = {m})", method.name);
+        info.statement = format!(
+            "Trials more than m = {m} apart in run order are independent. Splitting the sum \
+             into m + 1 = {} interleaved independent parts and applying Hoeffding's lemma to \
+             each widens the radius by the square root of m + 1: the bound behaves as if there \
+             were n/(m + 1) trials.",
+            m + 1
+        );
+        info.formula_typst = "U = hat(p) + sqrt(((m + 1) ln(1 slash delta)) / (2 n)), quad \
+                              L = hat(p) - sqrt(((m + 1) ln(1 slash delta)) / (2 n))"
+            .to_string();
+        info.citation = format!(
+            "S. Janson (2004), \"Large deviations for sums of partly dependent random \
+             variables\", Random Structures & Algorithms 24(3):234–248, Theorem 2.1; {}",
+            method.citation
+        );
+        info.assumptions = info
+            .assumptions
+            .iter()
+            .map(|a| {
+                if a == "independent-trials" {
+                    "m-dependent-trials".to_string()
+                } else {
+                    a.clone()
+                }
+            })
+            .collect();
     }
+    info
 }
 
 /// Standing cautions printed with every result.
@@ -1109,13 +1221,20 @@ pub fn analyse(spec: &Spec, data: &Dataset, ctx: &Context) -> Result<Analysis, S
         },
     };
 
+    let setting = Setting {
+        side,
+        scale: &scale,
+        m: (spec.dependence.model == spec::DependenceModel::MDependent)
+            .then(|| spec.dependence.m.unwrap_or(1)),
+    };
     let mut warnings = Vec::new();
     let mut shrunk = Vec::new();
     let mut own_bounds = Vec::new();
     let arm_results: Vec<ArmResult> = arms
         .iter()
         .map(|arm| {
-            let own = bound_result(primary, arm, per_bound, side, true, &scale);
+            let own = bound_result(primary, arm, per_bound, true, &setting);
+            let (own_lower, own_upper) = (own.lower, own.upper);
             let (lower, upper) = looks::intersect((own.lower, own.upper), &arm.name, &earlier);
             if let Some(before) = looks::shrunk(&lc.earlier, &arm.name, arm.n) {
                 shrunk.push(format!(
@@ -1144,7 +1263,7 @@ pub fn analyse(spec: &Spec, data: &Dataset, ctx: &Context) -> Result<Analysis, S
             let compare = selection
                 .compare
                 .iter()
-                .map(|m| bound_result(m, arm, delta_for(m), side, false, &scale))
+                .map(|m| bound_result(m, arm, delta_for(m), false, &setting))
                 .collect();
             let v = verdict(
                 side,
@@ -1213,7 +1332,36 @@ pub fn analyse(spec: &Spec, data: &Dataset, ctx: &Context) -> Result<Analysis, S
                         per_cluster: format!("{:.1}", n.trials as f64 / n.clusters.max(1) as f64),
                     },
                 }),
-                path: None,
+                path: bound_path(
+                    selection.primary,
+                    arm,
+                    per_bound,
+                    side,
+                    &scale,
+                    &lc.earlier
+                        .iter()
+                        .filter(|r| looks::combinable(r, selection.primary, look_delta))
+                        .filter_map(|r| r.arms.iter().find(|a| a.name == arm.name))
+                        .map(|a| {
+                            (
+                                a.n,
+                                if deciding_is_upper(side) {
+                                    a.upper
+                                } else {
+                                    a.lower
+                                },
+                            )
+                        })
+                        .chain(std::iter::once((
+                            arm.n,
+                            if deciding_is_upper(side) {
+                                own_upper
+                            } else {
+                                own_lower
+                            },
+                        )))
+                        .collect::<Vec<_>>(),
+                ),
                 display: ArmDisplay {
                     mean: scale.show(mean, Rounding::Nearest),
                     n: display::count(arm.n),
@@ -1298,8 +1446,13 @@ pub fn analyse(spec: &Spec, data: &Dataset, ctx: &Context) -> Result<Analysis, S
         },
     };
 
-    let mut methods = vec![method_info(selection.primary, "primary")];
-    methods.extend(selection.compare.iter().map(|m| method_info(m, "compare")));
+    let mut methods = vec![method_info(selection.primary, "primary", setting.m)];
+    methods.extend(
+        selection
+            .compare
+            .iter()
+            .map(|m| method_info(m, "compare", setting.m)),
+    );
 
     let statement = statement(
         &claim,

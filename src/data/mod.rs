@@ -48,6 +48,9 @@ pub struct Arm {
     pub values: Values,
     /// `Some` exactly when the analysis runs on cluster means: the trials behind them.
     pub nominal: Option<Nominal>,
+    /// Binary outcomes read from a file, as 0 and 1 in trial order, when the stream was asked
+    /// for (bounded outcomes keep theirs in [`BoundedValues::observations`]).
+    pub ordered: Option<Vec<f64>>,
 }
 
 /// The trials behind an arm of cluster means, for the report to set nominal trials beside the
@@ -133,6 +136,7 @@ fn summary_arm(name: &str, stats: &SummaryStats, spec: &Spec) -> Arm {
             stated_sd: Some(stats.sd),
         }),
         nominal: None,
+        ordered: None,
     }
 }
 
@@ -181,6 +185,7 @@ fn cluster_arm(a: ArmData, clusters: &[ClusterTotal], keep_observations: bool) -
             smallest_cluster: sizes.clone().min().unwrap_or(0),
             largest_cluster: sizes.max().unwrap_or(0),
         }),
+        ordered: None,
     }
 }
 
@@ -192,6 +197,7 @@ pub fn inline(spec: &Spec) -> Option<Dataset> {
             n: *trials,
             values: Values::Counts { events: *events },
             nominal: None,
+            ordered: None,
         }],
         DataSource::Arms(arms) => arms
             .iter()
@@ -200,6 +206,7 @@ pub fn inline(spec: &Spec) -> Option<Dataset> {
                 n: a.trials,
                 values: Values::Counts { events: a.events },
                 nominal: None,
+                ordered: None,
             })
             .collect(),
         DataSource::Summary(stats) => vec![summary_arm("all", stats, spec)],
@@ -260,20 +267,26 @@ pub fn read(
                         return cluster_arm(a, &clusters, keep_observations);
                     }
                     let n = a.summary.n;
-                    let values = match (kind, a.events) {
-                        (ValueKind::Binary, Some(events)) => Values::Counts { events },
-                        _ => Values::Bounded(BoundedValues {
-                            summary: a.summary,
-                            observations: a.observations,
-                            histogram: Some(a.histogram),
-                            stated_sd: None,
-                        }),
+                    let (values, ordered) = match (kind, a.events) {
+                        (ValueKind::Binary, Some(events)) => {
+                            (Values::Counts { events }, a.observations)
+                        }
+                        _ => (
+                            Values::Bounded(BoundedValues {
+                                summary: a.summary,
+                                observations: a.observations,
+                                histogram: Some(a.histogram),
+                                stated_sd: None,
+                            }),
+                            None,
+                        ),
                     };
                     Arm {
                         name: a.name,
                         n,
                         values,
                         nominal: None,
+                        ordered,
                     }
                 })
                 .collect(),
