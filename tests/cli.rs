@@ -70,6 +70,7 @@ const EXAMPLES: &[&str] = &[
     "lot-comparison",
     "zero-failure-demo",
     "dock-approach",
+    "valve-endurance",
 ];
 
 #[test]

@@ -10,6 +10,7 @@ mod cli;
 mod coverage;
 mod data_reading;
 mod extract;
+mod looks;
 mod optional_stopping;
 mod plan;
 mod plan_report;

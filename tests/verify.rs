@@ -71,6 +71,7 @@ fn untouched_reports_and_results_verify() {
         "lot-comparison",
         "zero-failure-demo",
         "dock-approach",
+        "valve-endurance",
     ] {
         let (_keep, dir) = run_copy(name);
         for file in ["report.pdf", "results.json"] {

@@ -40,11 +40,27 @@ pub fn run(args: Args) -> Result<i32, Error> {
     } else {
         study::LedgerUse::Record { time }
     };
-    let prepared = study::prepare(&args.spec, &env, ledger, &mut |d, t| bar.update(d, t));
-    bar.finish();
-    let mut prepared = prepared?;
-    let artifacts = study::render(&mut prepared)?;
-    study::record_look(&mut prepared)?;
+    // A first look creates its ledger only when it is recorded; if a parallel run created it
+    // in the meantime, this run's look number is stale and the whole run is done again.
+    let mut attempt = 0;
+    let (prepared, artifacts) = loop {
+        attempt += 1;
+        let prepared = study::prepare(&args.spec, &env, ledger.clone(), &mut |d, t| {
+            bar.update(d, t)
+        });
+        bar.finish();
+        let mut prepared = prepared?;
+        let artifacts = study::render(&mut prepared)?;
+        match study::record_look(&mut prepared) {
+            Err(Error::Ledger { error, .. })
+                if error.kind == crate::ledger::LedgerErrorKind::Changed && attempt < 8 =>
+            {
+                continue;
+            }
+            Err(e) => return Err(e),
+            Ok(()) => break (prepared, artifacts),
+        }
+    };
     let out = args
         .out
         .clone()
