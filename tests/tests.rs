@@ -9,6 +9,7 @@ mod bounded_properties;
 mod cli;
 mod coverage;
 mod data_reading;
+mod dependence;
 mod extract;
 mod looks;
 mod optional_stopping;
