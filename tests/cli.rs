@@ -1,14 +1,9 @@
 //! End-to-end tests of the `surety` binary: every example, the JSON output, exit codes, bad
 //! inputs (located message, exit 2, nothing written) and byte-for-byte reruns.
 
+use crate::support::{copy_dir, surety};
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
-
-fn surety() -> Command {
-    let mut cmd = Command::new(env!("CARGO_BIN_EXE_surety"));
-    cmd.env_remove("SOURCE_DATE_EPOCH");
-    cmd
-}
 
 fn run(args: &[&str]) -> Output {
     surety().args(args).output().expect("the binary starts")
@@ -21,30 +16,12 @@ fn example(name: &str) -> PathBuf {
         .join("study.yaml")
 }
 
-/// Copy a folder's files (one level of subfolders deep is enough for the examples).
-fn copy_folder(from: &Path, to: &Path) {
-    std::fs::create_dir_all(to).unwrap();
-    for entry in std::fs::read_dir(from).unwrap() {
-        let entry = entry.unwrap();
-        let target = to.join(entry.file_name());
-        if entry.file_type().unwrap().is_dir() {
-            copy_folder(&entry.path(), &target);
-        } else if !entry
-            .file_name()
-            .to_string_lossy()
-            .contains(".ledger.jsonl")
-        {
-            std::fs::copy(entry.path(), target).unwrap();
-        }
-    }
-}
-
 /// Run a copy of an example (so that its look ledger starts empty and stays out of the
 /// repository) into a fresh output folder, with extra arguments.
 fn run_example(name: &str, extra: &[&str]) -> (Output, tempfile::TempDir) {
     let out = tempfile::tempdir().unwrap();
     let copy = out.path().join("example");
-    copy_folder(example(name).parent().unwrap(), &copy);
+    copy_dir(example(name).parent().unwrap(), &copy);
     let spec = copy.join("study.yaml");
     let mut args = vec![
         "run",

@@ -1,13 +1,10 @@
 //! Looks end to end: the ledger a study's runs leave, what the results say about every look,
 //! and what happens when the ledger is damaged, replaced, bypassed or shared by parallel runs.
 
+use crate::support::{copy_dir, examples, surety};
 use serde_json::Value;
 use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
-
-fn surety() -> Command {
-    Command::new(env!("CARGO_BIN_EXE_surety"))
-}
+use std::process::Output;
 
 fn run_in(dir: &Path, args: &[&str]) -> Output {
     surety()
@@ -17,31 +14,11 @@ fn run_in(dir: &Path, args: &[&str]) -> Output {
         .expect("the binary starts")
 }
 
-fn copy_dir(from: &Path, to: &Path) {
-    std::fs::create_dir_all(to).unwrap();
-    for entry in std::fs::read_dir(from).unwrap() {
-        let entry = entry.unwrap();
-        let target = to.join(entry.file_name());
-        if entry.file_type().unwrap().is_dir() {
-            copy_dir(&entry.path(), &target);
-        } else if !entry
-            .file_name()
-            .to_string_lossy()
-            .contains(".ledger.jsonl")
-        {
-            std::fs::copy(entry.path(), target).unwrap();
-        }
-    }
-}
-
 /// A scratch copy of the valve-endurance example with the export of `week` in place.
 fn endurance(week: u32) -> (tempfile::TempDir, PathBuf) {
     let dir = tempfile::tempdir().unwrap();
     let root = dir.path().join("valve-endurance");
-    copy_dir(
-        &Path::new(env!("CARGO_MANIFEST_DIR")).join("examples/valve-endurance"),
-        &root,
-    );
+    copy_dir(&examples().join("valve-endurance"), &root);
     set_week(&root, week);
     (dir, root)
 }

@@ -22,4 +22,5 @@ mod robustness;
 mod schema;
 mod sequence_accuracy;
 mod spec_loading;
+mod support;
 mod verify;

@@ -3,19 +3,10 @@
 //! locale. The expected outcomes follow from the contract in DESIGN.md §4 and §10 (exit codes,
 //! byte-identical outputs), not from recorded values.
 
+use crate::support::{copy_dir, examples, surety};
 use sha2::{Digest, Sha256};
 use std::path::{Path, PathBuf};
 use std::process::{Command, Output};
-
-fn surety() -> Command {
-    let mut cmd = Command::new(env!("CARGO_BIN_EXE_surety"));
-    cmd.env_remove("SOURCE_DATE_EPOCH");
-    cmd
-}
-
-fn examples() -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR")).join("examples")
-}
 
 /// Copy an example folder into a fresh temporary folder and run it there.
 fn run_copy(name: &str) -> (tempfile::TempDir, PathBuf) {
@@ -29,21 +20,6 @@ fn run_copy(name: &str) -> (tempfile::TempDir, PathBuf) {
         .unwrap();
     assert!(o.status.success(), "{}", String::from_utf8_lossy(&o.stderr));
     (dir, to)
-}
-
-fn copy_dir(from: &Path, to: &Path) {
-    std::fs::create_dir_all(to).unwrap();
-    for entry in std::fs::read_dir(from).unwrap() {
-        let entry = entry.unwrap();
-        let target = to.join(entry.file_name());
-        if entry.file_type().unwrap().is_dir() {
-            if entry.file_name() != "study-report" {
-                copy_dir(&entry.path(), &target);
-            }
-        } else {
-            std::fs::copy(entry.path(), target).unwrap();
-        }
-    }
 }
 
 fn verify(file: &Path, extra: &[&str]) -> Output {

@@ -642,18 +642,20 @@ fn registration_item(spec: &Spec) -> (ChecklistItem, Option<String>) {
             ),
         ),
     };
-    (
-        ChecklistItem {
-            id: a.id.to_string(),
-            text: a.text.to_string(),
-            status: status.to_string(),
-            evidence: Some(evidence),
-            by: None,
-            date: None,
-            consequence: a.consequence.to_string(),
-        },
-        warning,
-    )
+    (checklist_item(a, status, Some(evidence)), warning)
+}
+
+/// A checklist entry for assumption `a` with the given status and evidence.
+fn checklist_item(a: &bounds::Assumption, status: &str, evidence: Option<String>) -> ChecklistItem {
+    ChecklistItem {
+        id: a.id.to_string(),
+        text: a.text.to_string(),
+        status: status.to_string(),
+        evidence,
+        by: None,
+        date: None,
+        consequence: a.consequence.to_string(),
+    }
 }
 
 /// How this look's bound combines with earlier ones, in words.
@@ -712,15 +714,7 @@ fn looks_item(spec: &Spec, lc: &looks::LookContext, primary: &Method) -> Checkli
                 .to_string(),
         ),
     };
-    ChecklistItem {
-        id: a.id.to_string(),
-        text: a.text.to_string(),
-        status: status.to_string(),
-        evidence: Some(evidence),
-        by: None,
-        date: None,
-        consequence: a.consequence.to_string(),
-    }
+    checklist_item(a, status, Some(evidence))
 }
 
 fn checklist(spec: &Spec, primary: &Method, arms: &[Arm]) -> Vec<ChecklistItem> {
@@ -748,15 +742,7 @@ fn checklist(spec: &Spec, primary: &Method, arms: &[Arm]) -> Vec<ChecklistItem> 
     ids.iter()
         .filter_map(|id| bounds::assumption(id))
         .map(|a| {
-            let mut item = ChecklistItem {
-                id: a.id.to_string(),
-                text: a.text.to_string(),
-                status: "open".to_string(),
-                evidence: None,
-                by: None,
-                date: None,
-                consequence: a.consequence.to_string(),
-            };
+            let mut item = checklist_item(a, "open", None);
             let checked = (a.confirmation == Confirmation::Data)
                 .then(|| data_evidence(a.id, spec, arms))
                 .flatten();
