@@ -156,8 +156,9 @@ pub fn civil_from_unix(seconds: i64) -> (i32, u8, u8) {
     (year as i32, month, day)
 }
 
-/// SHA-256 of a spec's acceptance criteria: the `claim` section and the `plan` section
-/// (without `plan.registered`, which records this very digest).
+/// SHA-256 of a spec's acceptance criteria: the `claim` section, the `plan` section (without
+/// `plan.registered`, which records this very digest) and, unless it is the default single
+/// planned look, the look plan (`looks.mode`, `planned`, `spending`).
 ///
 /// The digest is taken over a fixed JSON form of the parsed values (confidence as written), so
 /// comments, key order and layout of the YAML do not change it, while any change to what is
@@ -183,7 +184,7 @@ pub fn criteria_sha256(spec: &crate::spec::Spec) -> String {
         crate::spec::Scope::Best => "best",
     };
     // serde_json's default map keeps keys sorted, so this text is canonical.
-    let value = serde_json::json!({
+    let mut value = serde_json::json!({
         "format": "surety-criteria/1",
         "claim": {
             "quantity": c.quantity,
@@ -194,6 +195,16 @@ pub fn criteria_sha256(spec: &crate::spec::Spec) -> String {
         },
         "plan": plan,
     });
+    // How often the data will be looked at is a criterion too; the single planned look is the
+    // default and leaves the digest as it was before looks could be planned.
+    let l = &spec.looks;
+    if l.mode != crate::spec::LookMode::Planned || l.planned != 1 {
+        value["looks"] = serde_json::json!({
+            "mode": serde_json::to_value(l.mode).unwrap_or_default(),
+            "planned": l.planned,
+            "spending": serde_json::to_value(&l.spending).unwrap_or_default(),
+        });
+    }
     sha256_hex(value.to_string().as_bytes())
 }
 

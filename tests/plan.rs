@@ -754,3 +754,28 @@ fn bounded_plan_document() {
     let back: PlanResults = serde_json::from_str(&text).unwrap();
     assert_eq!(back, plan);
 }
+
+// Two planned looks with equal spending: the plan is for the last look, at δ/2 = 0.025. The
+// zero-failure size for a 10 % rate is then ⌈ln 0.025 / ln 0.9⌉ = ⌈35.01⌉ = 36 (success-run
+// rule, METHODS.md §12), not the single-look 29; an anytime study is not planned at all.
+#[test]
+fn planned_looks_are_planned_at_the_last_look_share() {
+    let yaml = |looks: &str| {
+        format!(
+            "surety: 1
+study: {{id: P-2, title: two looks}}
+claim: {{quantity: failure rate, side: upper, limit: 0.1, confidence: 0.95}}
+outcome: {{type: binary, event: failure}}
+data: {{trials: 10, events: 0}}
+looks: {looks}
+plan: {{assumed_rate: 0.01, pass_probability: 0.8, allowed_events: [0]}}
+"
+        )
+    };
+    let spec = surety::spec::parse("p.yaml", &yaml("{mode: planned, planned: 2}")).unwrap();
+    let plan = surety::plan::from_spec::plan(&spec, None).unwrap();
+    assert_eq!(plan.demonstration[0].trials, 36);
+    let spec = surety::spec::parse("p.yaml", &yaml("{mode: anytime}")).unwrap();
+    let err = surety::plan::from_spec::plan(&spec, None).unwrap_err();
+    assert_eq!(err.key.as_deref(), Some("looks.mode"));
+}

@@ -18,9 +18,22 @@ pub const PLAN_SEED: u64 = 20_261_202;
 /// Replications per sample size in planning simulations of sequential (O(n)) bounds.
 pub const PLAN_REPLICATIONS: u32 = 200;
 
-/// The δ each one-sided bound may use, as the analysis divides it.
+/// The δ each one-sided bound may use, as the analysis divides it. With several planned
+/// looks, the plan is for the last one, whose share of δ is the one a demonstration at the full
+/// planned size gets (δ/L under equal spending).
 pub fn delta_per_bound(spec: &Spec, arms: u64, primary_two_sided_built: bool) -> f64 {
     let mut divisions = Vec::new();
+    let planned = spec.looks.planned;
+    if planned > 1
+        && let Some(share) = spec.looks.share(planned)
+    {
+        divisions.push(Division::Look {
+            look: planned,
+            planned,
+            share,
+            equal: spec.looks.spending == crate::spec::Spending::Equal,
+        });
+    }
     if arms > 1 {
         match spec.claim.scope {
             Scope::All => divisions.push(Division::AllArms(arms)),
@@ -67,6 +80,18 @@ fn betting_bound(x: &[f64], delta: f64) -> f64 {
 /// the wanted chance of passing (binary), or per-method sample sizes (bounded), plus the trials
 /// still needed when the data in `data` did not yet pass.
 pub fn plan(spec: &Spec, data: Option<&Dataset>) -> Result<PlanResults, SpecError> {
+    if spec.looks.mode == crate::spec::LookMode::Anytime {
+        return Err(spec.error_at(
+            "looks.mode",
+            "sample sizes are planned for fixed-n bounds; a study looked at any time uses a \
+             confidence sequence, which needs more trials than these plans would show",
+            Some(
+                "plan with `looks.mode: planned` to see the fixed-n figures, and allow extra \
+                 trials for the sequence"
+                    .to_string(),
+            ),
+        ));
+    }
     let arms = data
         .map(|d| d.arms.len() as u64)
         .unwrap_or(match &spec.data.source {
