@@ -10,6 +10,7 @@ mod cli;
 mod coverage;
 mod data_reading;
 mod extract;
+mod ledger;
 mod plan;
 mod plan_report;
 mod properties;
