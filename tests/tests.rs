@@ -11,6 +11,7 @@ mod coverage;
 mod data_reading;
 mod dependence;
 mod extract;
+mod ledger;
 mod looks;
 mod optional_stopping;
 mod plan;

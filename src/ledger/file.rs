@@ -44,7 +44,8 @@ pub struct LockedLedger {
 
 impl LockedLedger {
     /// Open the ledger at `path`, creating it and its lock file if absent, and lock it
-    /// exclusively, blocking until other runs release it.
+    /// exclusively, blocking until other runs release it. The lock belongs to this value, not
+    /// to the process, so opening the same ledger again before dropping it waits forever.
     ///
     /// A newly created ledger's folder entry is synced to disk here, before anything is written
     /// to it, so that once [`LockedLedger::append`] returns the line cannot vanish with its
