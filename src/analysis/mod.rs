@@ -388,6 +388,11 @@ fn raw_bounds(
             match method.bounded {
                 Some(b) => match (two_sided_built, b.interval) {
                     (true, Some(interval)) => interval(&sample, delta),
+                    // The two ends of a method that reads every observation are each a pass
+                    // over the whole stream: one per core.
+                    _ if b.needs == Needs::Observations => {
+                        rayon::join(|| (b.lower)(&sample, delta), || (b.upper)(&sample, delta))
+                    }
                     _ => ((b.lower)(&sample, delta), (b.upper)(&sample, delta)),
                 },
                 None => (0.0, 1.0),
@@ -418,7 +423,8 @@ fn bound_path(
     if n == 0 {
         return None;
     }
-    let steps = 120u64.min(n);
+    // 48 points on a log scale draw the curve smoothly; each costs a pass over its prefix.
+    let steps = 48u64.min(n);
     let mut checkpoints: Vec<u64> = (0..=steps)
         .map(|i| {
             let t = i as f64 / steps as f64;
