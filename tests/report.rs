@@ -606,3 +606,211 @@ fn lower_and_two_sided_bounded_claims_render() {
         "caption"
     );
 }
+
+// Fixtures written by `surety run` (this build) in a scratch folder, then trimmed as noted.
+// Each run used a copy of an example under examples/ with the changes named here.
+//
+// looks-planned-results.json: examples/release-signoff with `looks: {mode: planned, planned: 3}`,
+//   run three times with data 800 trials / 0 events, 1,600 / 1, 2,300 / 1; the third look.
+// looks-anytime-results.json: examples/dock-approach with `looks: {mode: anytime}`, run on the
+//   first 60,000, 150,000 and then all 240,000 rows of approach-errors.csv; the third look,
+//   with `plan` set to null (the sample-size rationale is tested elsewhere).
+// clustered-looks-results.json: an invented two-arm leak test (leak rate per seal ≤ 4 %, scope
+//   all, `dependence: {model: clustered}` on a fixture column, `looks: {planned: 2}`), 40
+//   fixtures of 20 to 90 seals per line; looks on the first 20 fixtures, then all 40.
+// not-registered-results.json: examples/dock-approach with `dependence: {model: m-dependent,
+//   m: 3}`, run with `--no-ledger`; `plan` set to null.
+const LOOKS_PLANNED: &str = include_str!("data/looks-planned-results.json");
+const LOOKS_ANYTIME: &str = include_str!("data/looks-anytime-results.json");
+const CLUSTERED: &str = include_str!("data/clustered-looks-results.json");
+const NOT_REGISTERED: &str = include_str!("data/not-registered-results.json");
+
+fn load(text: &str) -> Analysis {
+    serde_json::from_str(text).expect("fixture deserializes into the model")
+}
+
+/// The text of one page (1-based), whitespace collapsed like [`text_of`].
+fn page_text(pdf: &[u8], page: usize, tag: &str) -> String {
+    let path = tmp_dir(tag).join("p.pdf");
+    std::fs::write(&path, pdf).expect("write pdf");
+    let p = page.to_string();
+    let raw = tool(
+        "pdftotext",
+        &["-f", &p, "-l", &p, path.to_str().unwrap(), "-"],
+    );
+    let _ = std::fs::remove_dir_all(path.parent().unwrap());
+    raw.split_whitespace().collect::<Vec<_>>().join(" ")
+}
+
+#[test]
+fn three_planned_looks_are_tabled_and_drawn() {
+    let a = load(LOOKS_PLANNED);
+    let pdf = render(&a, None).expect("three looks render");
+    keep("looks-planned.pdf", &pdf);
+    let text = text_of(&pdf, "looks-planned");
+    for needle in [
+        "Looks and the ledger",
+        "look 3 of 3 planned, registered in study.ledger.jsonl",
+        "This report is look 3 of the 3 looks planned",
+        "Upper bound over looks",
+        "trials at each look",
+        // The ledger's times of looks 1 and 2 (history[0..2].time), shortened; look 3 is this one.
+        "2026-12-02 04:26:06 UTC",
+        "2026-12-02 04:26:07 UTC",
+        "this report",
+        // Own upper bounds of looks 1 to 3 (history[].arms[0].upper: 0.0051049, 0.0037734,
+        // 0.0026262) in percent, rounded up to three significant digits by hand.
+        "0.511 %",
+        "0.378 %",
+        "0.263 %",
+        // δ/3 per look, rounded up (0.05 / 3 = 0.016667).
+        "0.01667",
+        a.looks.rule.as_str(),
+    ] {
+        assert!(text.contains(&norm(needle)), "report text lacks {needle:?}");
+    }
+    // One table row per earlier look, read left to right: number, time, trials, own and
+    // running bound, δ of the look and δ spent, verdict (history[0] and history[1]).
+    for row in [
+        "1 2026-12-02 04:26:06 UTC 800 0.511 % 0.511 % 0.01667 0.01667 INCONCLUSIVE",
+        "2 2026-12-02 04:26:07 UTC 1,600 0.378 % 0.378 % 0.01667 0.01667 PASS",
+        "3 this report",
+    ] {
+        assert!(
+            text.contains(&norm(row)),
+            "look table lacks the row {row:?}"
+        );
+    }
+    // A registered look carries no exploration warning; page one names the look.
+    assert!(!text.contains("Not a registered look"));
+    assert!(page_text(&pdf, 1, "looks-planned-p1").contains("look 3 of 3 planned"));
+}
+
+#[test]
+fn a_look_that_is_not_registered_is_flagged_on_the_first_page() {
+    let a = load(NOT_REGISTERED);
+    assert_eq!(a.looks.ledger.status, "not-registered");
+    let pdf = render(&a, None).expect("renders");
+    keep("not-registered.pdf", &pdf);
+    let first = page_text(&pdf, 1, "not-registered-p1");
+    // The warning block and the Look line of the first page.
+    assert!(
+        first
+            .matches("Not a registered look — exploration only")
+            .count()
+            >= 2,
+        "{first}"
+    );
+    assert!(first.contains("--no-ledger"), "{first}");
+    let text = text_of(&pdf, "not-registered");
+    for needle in [
+        "Not a registered look — exploration only. This analysis was run with --no-ledger",
+        // dependence.model and m of the fixture, and its treatment sentence.
+        "m-dependent — a trial may depend on its nearest neighbours in run order; m = 3",
+        a.dependence.treatment.as_str(),
+        a.dependence.estimand.as_str(),
+    ] {
+        assert!(text.contains(&norm(needle)), "report text lacks {needle:?}");
+    }
+    let summary = surety::report::summary::summary(&a);
+    assert!(
+        summary.contains("look     not registered (--no-ledger): exploration only"),
+        "{summary}"
+    );
+    assert!(
+        summary.contains("dependence m-dependent with m = 3"),
+        "{summary}"
+    );
+}
+
+#[test]
+fn an_anytime_path_is_drawn_with_its_looks() {
+    let a = load(LOOKS_ANYTIME);
+    let pdf = render(&a, None).expect("renders");
+    keep("looks-anytime.pdf", &pdf);
+    let text = text_of(&pdf, "looks-anytime");
+    for needle in [
+        "look 3, anytime-valid, registered in study.ledger.jsonl",
+        "bound along the trials",
+        "number of trials (log scale)",
+        "recorded looks, this one last",
+        "look 3",
+        "The bound is anytime-valid",
+        // Own upper bounds of looks 1 to 3 (0.297847, 0.297383, 0.297097 m), rounded up to four
+        // significant digits by hand.
+        "0.2979 m",
+        "0.2974 m",
+        "0.2971 m",
+    ] {
+        assert!(text.contains(&norm(needle)), "report text lacks {needle:?}");
+    }
+    assert!(
+        render(&a, None).expect("renders again") == pdf,
+        "reproducible bytes"
+    );
+    let summary = surety::report::summary::summary(&a);
+    assert!(
+        summary.contains(
+            "look     3, anytime-valid (registered in study.ledger.jsonl; looking again spends nothing)"
+        ),
+        "{summary}"
+    );
+}
+
+#[test]
+fn clustered_arms_show_nominal_and_effective_sizes() {
+    let a = load(CLUSTERED);
+    let pdf = render(&a, None).expect("renders");
+    keep("clustered.pdf", &pdf);
+    let text = text_of(&pdf, "clustered");
+    // The fixture's nominal block: line-1 2,134 trials, 33 events, 40 clusters of 21 to 88
+    // (53.4 on average); line-2 2,225 trials, 43 events, 40 clusters of 24 to 88.
+    for needle in [
+        "Clusters (effective n)",
+        "line-1 2,134 33 40 53.4 21 88",
+        "line-2 2,225 43 40 55.6 24 88",
+        "clustered — trials fall into clusters",
+        a.dependence.estimand.as_str(),
+        "clusters at each look",
+        // Two looks of two arms; own bounds of look 1 (0.33987, 0.34629) rounded up by hand.
+        "34.0 %",
+        "34.7 %",
+        "Arm line-1",
+        "Arm line-2",
+        "scope all: 2 arms certified simultaneously",
+    ] {
+        assert!(text.contains(&norm(needle)), "report text lacks {needle:?}");
+    }
+    let summary = surety::report::summary::summary(&a);
+    assert!(
+        summary.contains(
+            "line-1: 2,134 trials (33 events) in 40 clusters, 53.4 per cluster (21 to 88); effective n = 40"
+        ),
+        "{summary}"
+    );
+    assert!(summary.contains("arm     clusters"), "{summary}");
+    assert!(summary.contains("look     2 of 2 planned (registered in study.ledger.jsonl)"));
+
+    // Scope best: the per-arm chart's caption names the selected arm (the lower observed rate).
+    let mut best = a.clone();
+    best.claim.scope = "best".into();
+    let text = text_of(&render(&best, None).expect("renders"), "clustered-best");
+    assert!(
+        text.contains("The shaded row is arm line-1, selected as the best"),
+        "{text}"
+    );
+}
+
+#[test]
+fn a_reissued_look_says_so() {
+    let mut a = load(LOOKS_PLANNED);
+    a.looks.ledger.status = "re-issue".into();
+    let summary = surety::report::summary::summary(&a);
+    assert!(
+        summary.contains("look     3 of 3 planned, re-issued (already in study.ledger.jsonl; nothing further spent)"),
+        "{summary}"
+    );
+    let text = text_of(&render(&a, None).expect("renders"), "reissue");
+    assert!(text.contains("This report re-issues look 3"), "{text}");
+    assert!(text.contains("re-issue of look 3 of 3 planned"));
+}

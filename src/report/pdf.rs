@@ -18,7 +18,10 @@ use typst_pdf::{PdfOptions, PdfStandard, PdfStandards, Timestamp};
 
 use super::fonts;
 use super::plots;
-use super::template::{self, ARMS_PLOT, TEMPLATE_NAME, compare_path, curve_path, histogram_path};
+use super::template::{
+    self, ARMS_PLOT, LOOKS_JSON, TEMPLATE_NAME, compare_path, curve_path, histogram_path,
+    looks_path, path_path,
+};
 use super::world::{ReportWorld, file_id};
 use crate::analysis::model::Analysis;
 use crate::provenance::hex;
@@ -315,6 +318,15 @@ pub fn render_pdf(inputs: &ReportInputs) -> Result<Vec<u8>, ReportError> {
     for (i, svg) in plots.histograms.into_iter().enumerate() {
         put(&histogram_path(i), Bytes::from_string(svg))?;
     }
+    for (i, svg) in plots.looks.into_iter().enumerate() {
+        put(&looks_path(i), Bytes::from_string(svg))?;
+    }
+    for (i, svg) in plots.paths.into_iter().enumerate() {
+        put(&path_path(i), Bytes::from_string(svg))?;
+    }
+    let looks = serde_json::to_vec_pretty(&template::looks_display(a))
+        .map_err(|e| ReportError::Internal(format!("looks: {e}")))?;
+    put(LOOKS_JSON, Bytes::new(looks))?;
     put(&spec.served, Bytes::new(inputs.spec_bytes.to_vec()))?;
     if let Some((json, display, charts)) = plan_files {
         put(template::PLAN_JSON, Bytes::new(json))?;

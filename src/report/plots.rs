@@ -17,7 +17,7 @@ use plotters::prelude::*;
 use plotters::style::FontStyle;
 
 use super::fonts::{SANS_BOLD, SANS_FAMILY, SANS_REGULAR};
-use crate::analysis::model::{Analysis, ArmResult, BoundResult, Curve};
+use crate::analysis::model::{Analysis, ArmResult, BoundPath, BoundResult, Curve};
 
 pub(crate) const INK: RGBColor = RGBColor(0x22, 0x25, 0x2a);
 pub(crate) const GRID: RGBColor = RGBColor(0xe2, 0xe4, 0xe8);
@@ -92,6 +92,12 @@ pub(crate) struct PlotSet {
     /// One histogram of the observed values per arm that has one ([`histogram_of`]), in arm
     /// order.
     pub histograms: Vec<String>,
+    /// One "bound over looks" chart per arm that appears in two or more recorded looks
+    /// ([`look_series`]), in arm order.
+    pub looks: Vec<String>,
+    /// One "bound along the trials" chart per arm with an anytime path ([`path_of`]), in arm
+    /// order.
+    pub paths: Vec<String>,
 }
 
 /// Most method rows (plus arm headings) one comparison chart holds, so that it fits a page.
@@ -250,11 +256,23 @@ pub(crate) fn render_plots(a: &Analysis) -> Result<PlotSet, String> {
                 .map(|(counts, range)| histogram_svg(a, arm, counts, range, &scale, several))
         })
         .collect::<Result<Vec<_>, _>>()?;
+    let looks = a
+        .arms
+        .iter()
+        .filter_map(|arm| look_series(a, arm).map(|pts| looks_svg(a, arm, &pts, &scale, several)))
+        .collect::<Result<Vec<_>, _>>()?;
+    let paths = a
+        .arms
+        .iter()
+        .filter_map(|arm| path_of(arm).map(|p| path_svg(a, arm, p, &scale, several)))
+        .collect::<Result<Vec<_>, _>>()?;
     Ok(PlotSet {
         curves,
         arms,
         compare,
         histograms,
+        looks,
+        paths,
     })
 }
 
@@ -457,11 +475,43 @@ enum Key {
     Line(RGBColor, bool),
     Dot(RGBColor),
     Block(RGBColor),
+    /// A hollow circle: a look's own bound, drawn around the running bound's dot.
+    Ring(RGBColor),
+    /// A line through a dot: a bound marked at each look.
+    LineDot(RGBColor),
 }
 
 /// Width in pixels of `text` set in `font`, as plotters measures it.
 fn text_width(font: &FontDesc, text: &str) -> i32 {
-    font.box_size(text).map(|(w, _)| w as i32).unwrap_or(0)
+    font.box_size(text)
+        .map(|(w, _)| (w as f64 * measure_correction()).ceil() as i32)
+        .unwrap_or(0)
+}
+
+/// How much wider typst sets a label than plotters measures it. plotters (with ab_glyph)
+/// scales a face so that its ascender-to-descender height spans the font size, while
+/// plotters-svg writes `font-size` as that size divided by 1.24, which typst applies per em:
+/// the ratio of the two scales, read from the served face's own metrics.
+fn measure_correction() -> f64 {
+    static RATIO: OnceLock<f64> = OnceLock::new();
+    *RATIO.get_or_init(|| {
+        typst::text::Font::new(typst::foundations::Bytes::new(SANS_REGULAR), 0)
+            .map(|f| {
+                // The face has no variation axes, so the size given here changes nothing.
+                let face = f.clone().instantiate(
+                    f.info().variant,
+                    typst::layout::Abs::pt(10.0),
+                    &typst::text::FontVariations::default(),
+                );
+                let t = face.ttf();
+                (f64::from(t.ascender()) - f64::from(t.descender()))
+                    / f64::from(t.units_per_em())
+                    / 1.24
+            })
+            .filter(|r| r.is_finite() && *r > 0.5 && *r < 2.0)
+            // Noto Sans: (1069 + 293) / 1000 / 1.24, should the face ever fail to parse.
+            .unwrap_or(1.098)
+    })
 }
 
 /// Splits legend entries over as few rows as fit `width` pixels (at most three).
@@ -516,13 +566,7 @@ fn legend<DB: DrawingBackend>(
     let sample = 22;
     let widths: Vec<i32> = entries
         .iter()
-        .map(|(_, label)| {
-            let w = area
-                .estimate_text_size(label, &font)
-                .map(|(w, _)| w as i32)
-                .unwrap_or(0);
-            sample + 6 + w
-        })
+        .map(|(_, label)| sample + 6 + text_width(&font.font, label))
         .collect();
     let gap = 28;
     let total: i32 = widths.iter().sum::<i32>() + gap * (entries.len() as i32 - 1).max(0);
@@ -557,6 +601,19 @@ fn legend<DB: DrawingBackend>(
                     color.filled(),
                 ))
                 .map_err(|e| e.to_string())?;
+            }
+            Key::Ring(color) => {
+                area.draw(&Circle::new((x + sample / 2, y), 6, color.stroke_width(2)))
+                    .map_err(|e| e.to_string())?;
+            }
+            Key::LineDot(color) => {
+                area.draw(&PathElement::new(
+                    vec![(x, y), (x + sample, y)],
+                    color.stroke_width(2),
+                ))
+                .map_err(|e| e.to_string())?;
+                area.draw(&Circle::new((x + sample / 2, y), 4, color.filled()))
+                    .map_err(|e| e.to_string())?;
             }
         }
         area.draw(&Text::new(
@@ -779,7 +836,8 @@ fn deciding_display(a: &Analysis, arm: &ArmResult) -> Option<String> {
 fn arms_svg(a: &Analysis, scale: &Scale) -> Result<String, String> {
     let k = a.arms.len();
     let row = 34u32;
-    let (w, h) = (660u32, 96 + row * k as u32);
+    // 30 px of legend and 20 of budget note below the rows.
+    let (w, h) = (660u32, 116 + row * k as u32);
     let f = scale.factor;
     let limit = a.claim.limit;
     let values: Vec<f64> = a
@@ -792,27 +850,37 @@ fn arms_svg(a: &Analysis, scale: &Scale) -> Result<String, String> {
         .collect();
     let axis = ValueAxis::fit(&values, scale.origin * f);
     let decimals = axis.decimals;
-    let names: Vec<String> = a.arms.iter().map(|arm| shorten(&arm.name, 20)).collect();
+    let selected = selected_arm(a);
+    let names: Vec<String> = a
+        .arms
+        .iter()
+        .enumerate()
+        .map(|(i, arm)| {
+            let name = shorten(&arm.name, 20);
+            if Some(i) == selected {
+                format!("{name} (selected)")
+            } else {
+                name
+            }
+        })
+        .collect();
     let side = side_word(deciding_side(a));
     let title = format!(
         "Deciding {} bound by arm ({} confidence)",
         side, a.claim.display.confidence
     );
+    let note = arms_adjustment(a);
 
     let mut svg = String::new();
     {
         let root = SVGBackend::with_string(&mut svg, (w, h)).into_drawing_area();
         root.fill(&WHITE).map_err(|e| e.to_string())?;
-        let legend_h = 30;
+        let legend_h = 50;
         let (upper, lower) = root.split_vertically(h - legend_h);
         let label_font = (SANS_FAMILY, 14).into_font().color(&INK);
         let name_w = names
             .iter()
-            .map(|n| {
-                root.estimate_text_size(n, &label_font)
-                    .map(|(w, _)| w)
-                    .unwrap_or(0)
-            })
+            .map(|n| text_width(&label_font.font, n).max(0) as u32)
             .max()
             .unwrap_or(0)
             + 14;
@@ -848,6 +916,16 @@ fn arms_svg(a: &Analysis, scale: &Scale) -> Result<String, String> {
             })
             .draw()
             .map_err(|e| e.to_string())?;
+        if let Some(i) = selected {
+            // A band behind the selected arm's row, under everything else drawn on it.
+            let y = (k - 1 - i) as f64;
+            chart
+                .draw_series(std::iter::once(Rectangle::new(
+                    [(axis.lo, y + 0.06), (axis.hi, y + 0.94)],
+                    BAND.filled(),
+                )))
+                .map_err(|e| e.to_string())?;
+        }
         chart
             .draw_series(DashedLineSeries::new(
                 vec![(limit * f, 0.0), (limit * f, k as f64)],
@@ -891,10 +969,38 @@ fn arms_svg(a: &Analysis, scale: &Scale) -> Result<String, String> {
                 format!("limit {}", clean(&a.claim.display.limit)),
             ),
         ];
-        legend(&lower, &entries, 13)?;
+        let (keys, strip) = lower.split_vertically(28);
+        legend(&keys, &entries, 13)?;
+        strip
+            .draw(&Text::new(
+                note,
+                ((w / 2) as i32, 8),
+                (SANS_FAMILY, 13).into_font().color(&AXIS).pos(
+                    plotters::style::text_anchor::Pos::new(
+                        plotters::style::text_anchor::HPos::Center,
+                        plotters::style::text_anchor::VPos::Center,
+                    ),
+                ),
+            ))
+            .map_err(|e| e.to_string())?;
         root.present().map_err(|e| e.to_string())?;
     }
     Ok(svg)
+}
+
+/// How the arms share the error budget, in a few words, for the per-arm chart: the scope, the
+/// division by the arms and the δ every bound ended with (after looks and sides too).
+fn arms_adjustment(a: &Analysis) -> String {
+    let k = a.adjustments.arms;
+    let each = clean(&a.adjustments.display_delta_per_bound);
+    match a.claim.scope.as_str() {
+        "all" => format!("scope all: Bonferroni δ/{k} over the arms; each bound at δ = {each}"),
+        "best" => format!(
+            "scope best: the best of {} arms is certified at δ/{k}; each bound at δ = {each}",
+            a.arms.len()
+        ),
+        _ => format!("scope each: every arm on its own; each bound at δ = {each}"),
+    }
 }
 
 /// The catalogue name of a method without its parenthesised authors ("Betting
@@ -1368,6 +1474,642 @@ fn histogram_svg(
     Ok(svg)
 }
 
+/// One arm at one recorded look: its size and its own primary bounds, in data units.
+#[derive(Debug, Clone, PartialEq)]
+pub(crate) struct LookPoint {
+    /// The look's number in the ledger.
+    pub look: u32,
+    /// Trials (clusters, for a clustered analysis) the look was computed on.
+    pub n: f64,
+    /// The look's own upper bound, when it computed a finite one.
+    pub upper: Option<f64>,
+    /// The look's own lower bound, when it computed a finite one.
+    pub lower: Option<f64>,
+}
+
+/// An arm's own bounds at every recorded look it appears in (matched by name, oldest first),
+/// when there are two or more: with a single look there is nothing to draw over looks.
+pub(crate) fn look_series(a: &Analysis, arm: &ArmResult) -> Option<Vec<LookPoint>> {
+    let finite = |v: Option<f64>| v.filter(|x| x.is_finite());
+    let points: Vec<LookPoint> = a
+        .looks
+        .history
+        .iter()
+        .filter_map(|record| {
+            let own = record.arms.iter().find(|l| l.name == arm.name)?;
+            Some(LookPoint {
+                look: record.look,
+                n: own.n as f64,
+                upper: finite(own.upper),
+                lower: finite(own.lower),
+            })
+        })
+        .collect();
+    (points.len() >= 2).then_some(points)
+}
+
+/// The running bound after each look: the smallest upper (`upper` true) or the largest lower
+/// bound of the looks so far, which is what an intersection over looks gives. Looks without
+/// that bound keep the running value of the looks before them.
+pub(crate) fn running(values: &[Option<f64>], upper: bool) -> Vec<Option<f64>> {
+    let mut best: Option<f64> = None;
+    values
+        .iter()
+        .map(|v| {
+            if let Some(v) = v.filter(|x| x.is_finite()) {
+                best = Some(match best {
+                    None => v,
+                    Some(b) if upper => b.min(v),
+                    Some(b) => b.max(v),
+                });
+            }
+            best
+        })
+        .collect()
+}
+
+/// Which bounds a chart over looks draws: both for a two-sided claim, else the deciding one.
+pub(crate) fn look_sides(a: &Analysis) -> &'static [&'static str] {
+    match a.claim.side.as_str() {
+        "two-sided" => &["lower", "upper"],
+        "lower" => &["lower"],
+        _ => &["upper"],
+    }
+}
+
+/// An arm's anytime path, when it has at least two points that can be drawn.
+pub(crate) fn path_of(arm: &ArmResult) -> Option<&BoundPath> {
+    let path = arm.path.as_ref()?;
+    (finite(&path.points).count() >= 2).then_some(path)
+}
+
+/// The arm a `best` scope selected, by the rule of the analysis: the smallest observed value
+/// for an upper or two-sided claim, the largest for a lower one, the first on a tie. The
+/// results carry the choice only inside the statement sentence, so the chart repeats the rule.
+pub(crate) fn selected_arm(a: &Analysis) -> Option<usize> {
+    if a.claim.scope != "best" || a.arms.len() < 2 {
+        return None;
+    }
+    let lower = a.claim.side == "lower";
+    let mut best = 0;
+    for (i, arm) in a.arms.iter().enumerate() {
+        let better = if lower {
+            arm.mean > a.arms[best].mean
+        } else {
+            arm.mean < a.arms[best].mean
+        };
+        if better {
+            best = i;
+        }
+    }
+    Some(best)
+}
+
+/// What a clustered analysis counts: its `n` is the number of clusters.
+fn counted(a: &Analysis) -> &'static str {
+    if a.dependence.model == "clustered" {
+        "clusters"
+    } else {
+        "trials"
+    }
+}
+
+/// A trial-count axis, drawn on a linear pixel scale over `at(n)`: logarithmic when the
+/// counts span a factor of 20 or more (a path from the first trial to the last), else linear
+/// from 0 (a few looks of similar size, whose spacing then reads true).
+struct TrialsAxis {
+    log: bool,
+    lo: f64,
+    hi: f64,
+    ticks: Vec<f64>,
+}
+
+impl TrialsAxis {
+    fn fit(counts: impl Iterator<Item = f64>) -> Self {
+        let (min, max) = counts
+            .filter(|x| x.is_finite() && *x > 0.0)
+            .fold((f64::INFINITY, 0.0f64), |(lo, hi), x| {
+                (lo.min(x), hi.max(x))
+            });
+        let (min, max) = if min.is_finite() {
+            (min, max)
+        } else {
+            (1.0, 1.0)
+        };
+        if max >= 20.0 * min {
+            let (l0, l1) = (min.log10(), max.log10());
+            let pad = 0.04 * (l1 - l0);
+            let (lo, hi) = (l0 - pad, l1 + pad);
+            let ticks = log_ticks(10f64.powf(lo), 10f64.powf(hi))
+                .into_iter()
+                .map(f64::log10)
+                .collect();
+            TrialsAxis {
+                log: true,
+                lo,
+                hi,
+                ticks,
+            }
+        } else {
+            let hi = max * 1.08;
+            // Counts are whole numbers: a step of 2.5 would put ticks between them.
+            let (step, _) = nice_step(hi, 5.0);
+            let step = if step.fract() == 0.0 {
+                step
+            } else {
+                step.ceil()
+            };
+            TrialsAxis {
+                log: false,
+                lo: 0.0,
+                hi,
+                ticks: ticks_between(0.0, hi, step.max(1.0)),
+            }
+        }
+    }
+
+    fn at(&self, n: f64) -> f64 {
+        if self.log { n.max(1e-300).log10() } else { n }
+    }
+
+    fn label(&self, v: f64) -> String {
+        trials_label(if self.log { 10f64.powf(v) } else { v })
+    }
+
+    fn desc(&self, what: &str) -> String {
+        if self.log {
+            format!("{what} (log scale)")
+        } else {
+            what.to_string()
+        }
+    }
+}
+
+/// The parts of a polyline inside the horizontal band [lo, hi], cut where it crosses the band's
+/// edges: plotters does not clip, and a line drawn beyond the plotting area would run over the
+/// axis labels.
+fn clip_band(points: &[(f64, f64)], lo: f64, hi: f64) -> Vec<Vec<(f64, f64)>> {
+    let mut runs: Vec<Vec<(f64, f64)>> = Vec::new();
+    let mut run: Vec<(f64, f64)> = Vec::new();
+    let mut close = |run: &mut Vec<(f64, f64)>| {
+        if run.len() >= 2 {
+            runs.push(std::mem::take(run));
+        } else {
+            run.clear();
+        }
+    };
+    for w in points.windows(2) {
+        let ((x0, y0), (x1, y1)) = (w[0], w[1]);
+        let dy = y1 - y0;
+        let (t0, t1) = if dy == 0.0 {
+            if (lo..=hi).contains(&y0) {
+                (0.0, 1.0)
+            } else {
+                (1.0, 0.0)
+            }
+        } else {
+            let (ta, tb) = ((lo - y0) / dy, (hi - y0) / dy);
+            (ta.min(tb).max(0.0), ta.max(tb).min(1.0))
+        };
+        if t0 > t1 {
+            close(&mut run);
+            continue;
+        }
+        let at = |t: f64| (x0 + t * (x1 - x0), y0 + t * dy);
+        if t0 > 0.0 || run.is_empty() {
+            close(&mut run);
+            run.push(at(t0));
+        }
+        run.push(at(t1));
+        if t1 < 1.0 {
+            close(&mut run);
+        }
+    }
+    close(&mut run);
+    runs
+}
+
+/// A label for one marked point, in pixels of the whole chart.
+struct PointLabel {
+    text: String,
+    at: (i32, i32),
+    /// Above the point, else below it.
+    above: bool,
+    /// Centred on the point, else starting just right of it.
+    centred: bool,
+}
+
+/// Draws the labels of marked points inside `[left, right]` pixels. When any two would touch,
+/// only the last (this look) is labelled: a label beside the wrong point would mislead, while
+/// the legend and the table still say which mark is which.
+fn draw_point_labels<DB: DrawingBackend>(
+    root: &DrawingArea<DB, plotters::coord::Shift>,
+    labels: &[PointLabel],
+    font: &TextStyle,
+    (left, right): (i32, i32),
+) -> Result<(), String> {
+    use plotters::style::text_anchor::{HPos, Pos, VPos};
+    let spans: Vec<(i32, i32)> = labels
+        .iter()
+        .map(|l| {
+            let w = text_width(&font.font, &l.text);
+            let x0 = if l.centred {
+                l.at.0 - w / 2
+            } else {
+                l.at.0 + 5
+            };
+            // Kept inside the chart: shifted left at the right edge, right at the left one.
+            let x0 = x0.min(right - w).max(left);
+            (x0, x0 + w)
+        })
+        .collect();
+    let crowded = spans
+        .iter()
+        .enumerate()
+        .any(|(i, a)| spans[..i].iter().any(|b| !(a.1 + 6 < b.0 || a.0 > b.1 + 6)));
+    let first = if crowded {
+        labels.len().saturating_sub(1)
+    } else {
+        0
+    };
+    for (l, (x0, _)) in labels.iter().zip(&spans).skip(first) {
+        let (y, v) = if l.above {
+            (l.at.1 - 8, VPos::Bottom)
+        } else {
+            (l.at.1 + 8, VPos::Top)
+        };
+        root.draw(&Text::new(
+            l.text.clone(),
+            (*x0, y),
+            font.clone().pos(Pos::new(HPos::Left, v)),
+        ))
+        .map_err(|e| e.to_string())?;
+    }
+    Ok(())
+}
+
+/// One look as a chart over looks draws it: the look's number, its position on the trials axis,
+/// and its own and running bound in chart units.
+type LookRow = (u32, f64, Option<f64>, Option<f64>);
+
+/// One arm's bound at each recorded look on its own (rings) and the running bound that
+/// decides (a step line with dots: it holds from one look until the next), against the limit.
+fn looks_svg(
+    a: &Analysis,
+    arm: &ArmResult,
+    points: &[LookPoint],
+    scale: &Scale,
+    small: bool,
+) -> Result<String, String> {
+    let (w, h, font_px, title_px) = if small {
+        (440u32, 330u32, 16u32, 17u32)
+    } else {
+        (660, 330, 14, 16)
+    };
+    let f = scale.factor;
+    let limit = a.claim.limit * f;
+    let x = TrialsAxis::fit(points.iter().map(|p| p.n));
+    // Per side drawn: the own and running bounds at each look, in chart units.
+    let series: Vec<(bool, Vec<LookRow>)> = look_sides(a)
+        .iter()
+        .map(|side| {
+            let upper = *side == "upper";
+            let own: Vec<Option<f64>> = points
+                .iter()
+                .map(|p| if upper { p.upper } else { p.lower })
+                .collect();
+            let run = running(&own, upper);
+            let rows = points
+                .iter()
+                .zip(own.iter().zip(&run))
+                .map(|(p, (o, r))| (p.look, x.at(p.n), o.map(|v| v * f), r.map(|v| v * f)))
+                .collect();
+            (upper, rows)
+        })
+        .collect();
+    let values: Vec<f64> = series
+        .iter()
+        .flat_map(|(_, rows)| rows.iter().flat_map(|r| [r.2, r.3]))
+        .flatten()
+        .chain([limit])
+        .collect();
+    let axis = ValueAxis::fit(&values, scale.origin * f);
+    let decimals = axis.decimals;
+
+    let title = if a.arms.len() > 1 {
+        format!("Arm {}", shorten(&arm.name, 34))
+    } else if a.claim.side == "two-sided" {
+        format!("Bounds over looks ({})", a_confidence(a))
+    } else {
+        format!(
+            "{} bound over looks ({})",
+            capitalise(deciding_side(a)),
+            a_confidence(a)
+        )
+    };
+    let entries = vec![
+        (Key::Ring(SECOND), "each look's own bound".to_string()),
+        (Key::LineDot(ACCENT), "running bound (decides)".to_string()),
+        (
+            Key::Line(LIMIT, true),
+            format!("limit {}", clean(&a.claim.display.limit)),
+        ),
+    ];
+    let legend = legend_rows(entries, font_px - 1, w);
+    let legend_row_h = if small { 25 } else { 26 };
+    let legend_h = legend_row_h * legend.len() as u32 + 4;
+    let side = if a.claim.side == "two-sided" {
+        "bounds".to_string()
+    } else {
+        format!("{} bound", deciding_side(a))
+    };
+
+    let mut svg = String::new();
+    {
+        let root = SVGBackend::with_string(&mut svg, (w, h)).into_drawing_area();
+        root.fill(&WHITE).map_err(|e| e.to_string())?;
+        let (upper_area, lower_area) = root.split_vertically(h - legend_h);
+        let label_font = (SANS_FAMILY, font_px).into_font().color(&INK);
+        let mut chart = ChartBuilder::on(&upper_area)
+            .caption(
+                &title,
+                (SANS_FAMILY, title_px, FontStyle::Bold)
+                    .into_font()
+                    .color(&INK),
+            )
+            .margin_top(6)
+            .margin_left(8)
+            .margin_right(22)
+            .x_label_area_size(if small { 44 } else { 42 })
+            .y_label_area_size(if small { 70 } else { 72 })
+            .build_cartesian_2d(
+                span_axis(x.lo, x.hi, x.ticks.clone()),
+                span_axis(axis.lo, axis.hi, axis.ticks.clone()),
+            )
+            .map_err(|e| e.to_string())?;
+        chart
+            .configure_mesh()
+            .bold_line_style(GRID.stroke_width(1))
+            .light_line_style(TRANSPARENT)
+            .axis_style(AXIS.stroke_width(1))
+            .label_style(label_font.clone())
+            .axis_desc_style(label_font.clone())
+            .x_desc(x.desc(&format!("{} at each look", counted(a))))
+            .y_desc(axis.title(&side, scale))
+            .x_label_formatter(&|v| x.label(*v))
+            .y_label_formatter(&|v| format!("{:.*}", decimals, v))
+            .draw()
+            .map_err(|e| e.to_string())?;
+        let err = |e: DrawingAreaErrorKind<_>| e.to_string();
+        let (band_lo, band_hi) = (axis.lo, axis.hi);
+        if (band_lo..=band_hi).contains(&limit) {
+            chart
+                .draw_series(DashedLineSeries::new(
+                    vec![(x.lo, limit), (x.hi, limit)],
+                    7,
+                    5,
+                    LIMIT.stroke_width(2),
+                ))
+                .map_err(err)?;
+        }
+        let mut labels: Vec<PointLabel> = Vec::new();
+        for (upper, rows) in &series {
+            // The running bound holds from one look until the next: a step, not a slope.
+            let mut steps: Vec<(f64, f64)> = Vec::new();
+            for r in rows {
+                if let Some(v) = r.3 {
+                    if let Some(&(_, prev)) = steps.last() {
+                        steps.push((r.1, prev));
+                    }
+                    steps.push((r.1, v));
+                }
+            }
+            for run in clip_band(&steps, band_lo, band_hi) {
+                chart
+                    .draw_series(LineSeries::new(run, ACCENT.stroke_width(2)))
+                    .map_err(err)?;
+            }
+            for r in rows {
+                if let Some(v) = r.2.filter(|v| (band_lo..=band_hi).contains(v)) {
+                    chart
+                        .draw_series(std::iter::once(Circle::new(
+                            (r.1, v),
+                            6,
+                            SECOND.stroke_width(2),
+                        )))
+                        .map_err(err)?;
+                    // Below a falling upper bound and above a rising lower one: the step
+                    // line reaches each look from the other side.
+                    labels.push(PointLabel {
+                        text: format!("look {}", r.0),
+                        at: chart.backend_coord(&(r.1, v)),
+                        above: !*upper,
+                        centred: true,
+                    });
+                }
+                if let Some(v) = r.3.filter(|v| (band_lo..=band_hi).contains(v)) {
+                    chart
+                        .draw_series(std::iter::once(Circle::new((r.1, v), 4, ACCENT.filled())))
+                        .map_err(err)?;
+                }
+            }
+        }
+        let (px_range, _) = chart.plotting_area().get_pixel_range();
+        let label_font = (SANS_FAMILY, font_px - 2).into_font().color(&INK);
+        draw_point_labels(
+            &root,
+            &labels,
+            &label_font,
+            (px_range.start, px_range.end + 18),
+        )?;
+        legend_stack(&lower_area, &legend, legend_row_h, font_px - 1)?;
+        root.present().map_err(|e| e.to_string())?;
+    }
+    Ok(svg)
+}
+
+/// An anytime bound along the cumulative trials, with each recorded look marked on it and the
+/// limit. The bound starts at the end of the range, far from where the decision is made, so
+/// the value axis is capped near the limit and the looks; the line enters from the top.
+fn path_svg(
+    a: &Analysis,
+    arm: &ArmResult,
+    path: &BoundPath,
+    scale: &Scale,
+    small: bool,
+) -> Result<String, String> {
+    let (w, h, font_px, title_px) = if small {
+        (440u32, 330u32, 16u32, 17u32)
+    } else {
+        (660, 350, 14, 16)
+    };
+    let f = scale.factor;
+    let limit = a.claim.limit * f;
+    let origin = scale.origin * f;
+    let points: Vec<(f64, f64)> = finite(&path.points).map(|(n, v)| (n, v * f)).collect();
+    let marks: Vec<(f64, f64)> = finite(&path.looks).map(|(n, v)| (n, v * f)).collect();
+    let x = TrialsAxis::fit(points.iter().chain(&marks).map(|p| p.0));
+    let upper = path.bound != "lower";
+
+    // Far enough above the limit and the looks that the approach to them shows, no further.
+    let near = marks
+        .iter()
+        .map(|p| p.1)
+        .chain(points.last().map(|p| p.1))
+        .chain([limit, arm.mean * f])
+        .filter(|v| v.is_finite())
+        .fold(origin, f64::max);
+    let cap = if near > origin {
+        origin + 2.5 * (near - origin)
+    } else {
+        f64::INFINITY
+    };
+    let shown: Vec<f64> = points
+        .iter()
+        .chain(&marks)
+        .map(|p| p.1.min(cap))
+        .chain([limit])
+        .collect();
+    let axis = ValueAxis::fit(&shown, origin);
+    let decimals = axis.decimals;
+    let drawn: Vec<(f64, f64)> = points.iter().map(|(n, v)| (x.at(*n), *v)).collect();
+
+    let side = side_word(&path.bound);
+    let title = if a.arms.len() > 1 {
+        format!("Arm {}", shorten(&arm.name, 34))
+    } else {
+        format!(
+            "{} {} bound along the {}",
+            capitalise(side),
+            a_confidence(a),
+            counted(a)
+        )
+    };
+    // Recorded looks of this arm, by number, to label the marks; the path marks one point per
+    // recorded look, so the two lists pair up when their lengths agree.
+    let numbers: Vec<u32> = a
+        .looks
+        .history
+        .iter()
+        .filter(|r| r.arms.iter().any(|l| l.name == arm.name))
+        .map(|r| r.look)
+        .collect();
+    let numbers: Vec<u32> = if numbers.len() == marks.len() {
+        numbers
+    } else {
+        (1..=marks.len() as u32).collect()
+    };
+    let entries = vec![
+        (
+            Key::Line(ACCENT, false),
+            format!(
+                "running {side} bound, {}",
+                short_method_name(a, &arm.primary.method)
+            ),
+        ),
+        (
+            Key::Dot(ACCENT),
+            if marks.len() == 1 {
+                "this look".to_string()
+            } else {
+                "recorded looks, this one last".to_string()
+            },
+        ),
+        (
+            Key::Line(LIMIT, true),
+            format!("limit {}", clean(&a.claim.display.limit)),
+        ),
+    ];
+    let legend = legend_rows(entries, font_px - 1, w);
+    let legend_row_h = if small { 25 } else { 26 };
+    let legend_h = legend_row_h * legend.len() as u32 + 4;
+
+    let mut svg = String::new();
+    {
+        let root = SVGBackend::with_string(&mut svg, (w, h)).into_drawing_area();
+        root.fill(&WHITE).map_err(|e| e.to_string())?;
+        let (upper_area, lower_area) = root.split_vertically(h - legend_h);
+        let label_font = (SANS_FAMILY, font_px).into_font().color(&INK);
+        let mut chart = ChartBuilder::on(&upper_area)
+            .caption(
+                &title,
+                (SANS_FAMILY, title_px, FontStyle::Bold)
+                    .into_font()
+                    .color(&INK),
+            )
+            .margin_top(6)
+            .margin_left(8)
+            .margin_right(22)
+            .x_label_area_size(if small { 44 } else { 42 })
+            .y_label_area_size(if small { 70 } else { 72 })
+            .build_cartesian_2d(
+                span_axis(x.lo, x.hi, x.ticks.clone()),
+                span_axis(axis.lo, axis.hi, axis.ticks.clone()),
+            )
+            .map_err(|e| e.to_string())?;
+        chart
+            .configure_mesh()
+            .bold_line_style(GRID.stroke_width(1))
+            .light_line_style(TRANSPARENT)
+            .axis_style(AXIS.stroke_width(1))
+            .label_style(label_font.clone())
+            .axis_desc_style(label_font.clone())
+            .x_desc(x.desc(&format!("number of {}", counted(a))))
+            .y_desc(axis.title(&format!("{side} bound"), scale))
+            .x_label_formatter(&|v| x.label(*v))
+            .y_label_formatter(&|v| format!("{:.*}", decimals, v))
+            .draw()
+            .map_err(|e| e.to_string())?;
+        let err = |e: DrawingAreaErrorKind<_>| e.to_string();
+        let (band_lo, band_hi) = (axis.lo, axis.hi);
+        if (band_lo..=band_hi).contains(&limit) {
+            chart
+                .draw_series(DashedLineSeries::new(
+                    vec![(x.lo, limit), (x.hi, limit)],
+                    7,
+                    5,
+                    LIMIT.stroke_width(2),
+                ))
+                .map_err(err)?;
+        }
+        for run in clip_band(&drawn, band_lo, band_hi) {
+            chart
+                .draw_series(LineSeries::new(run, ACCENT.stroke_width(2)))
+                .map_err(err)?;
+        }
+        let mut labels: Vec<PointLabel> = Vec::new();
+        for ((n, v), look) in marks.iter().zip(&numbers) {
+            let v = v.clamp(band_lo, band_hi);
+            let at = (x.at(*n), v);
+            chart
+                .draw_series(std::iter::once(Circle::new(at, 5, ACCENT.filled())))
+                .map_err(err)?;
+            chart
+                .draw_series(std::iter::once(Circle::new(at, 5, WHITE.stroke_width(1))))
+                .map_err(err)?;
+            // Above and to the right of a falling upper bound (below and to the right of a
+            // rising lower one), where the line has already passed.
+            labels.push(PointLabel {
+                text: format!("look {look}"),
+                at: chart.backend_coord(&at),
+                above: upper,
+                centred: false,
+            });
+        }
+        let (px_range, _) = chart.plotting_area().get_pixel_range();
+        let label_font = (SANS_FAMILY, font_px - 2).into_font().color(&INK);
+        draw_point_labels(
+            &root,
+            &labels,
+            &label_font,
+            (px_range.start, px_range.end + 18),
+        )?;
+        legend_stack(&lower_area, &legend, legend_row_h, font_px - 1)?;
+        root.present().map_err(|e| e.to_string())?;
+    }
+    Ok(svg)
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -1569,5 +2311,169 @@ mod tests {
         // No finite value at all still gives a usable axis.
         let axis = ValueAxis::fit(&[f64::NAN], 0.0);
         assert!(axis.hi > axis.lo && !axis.ticks.is_empty());
+    }
+
+    /// Fixtures written by `surety run` (see tests/report.rs for how each was made).
+    fn fixture(name: &str) -> Analysis {
+        let text = match name {
+            "planned" => include_str!("../../tests/data/looks-planned-results.json"),
+            "anytime" => include_str!("../../tests/data/looks-anytime-results.json"),
+            _ => include_str!("../../tests/data/clustered-looks-results.json"),
+        };
+        serde_json::from_str(text).expect("fixture deserializes")
+    }
+
+    /// Circles drawn as rings (no fill) in the given stroke colour.
+    fn rings(svg: &str, stroke: &str) -> usize {
+        svg.lines()
+            .filter(|l| {
+                l.trim_start().starts_with("<circle ")
+                    && l.contains("fill=\"none\"")
+                    && l.contains(&format!("stroke=\"{stroke}\""))
+            })
+            .count()
+    }
+
+    #[test]
+    fn looks_chart_marks_every_look() {
+        let a = fixture("planned");
+        let set = render_plots(&a).expect("draws");
+        // tests/data/looks-planned-results.json: one arm seen at looks 1, 2 and 3.
+        assert_eq!(set.looks.len(), 1);
+        let svg = &set.looks[0];
+        // A ring per look's own bound and a dot per running bound, plus one of each in the legend.
+        assert_eq!(rings(svg, "#7D848C"), 3 + 1);
+        assert_eq!(filled(svg, "circle", "#1F4E79"), 3 + 1);
+        for label in [
+            "look 1",
+            "look 2",
+            "look 3",
+            "Upper bound over looks",
+            "trials at each look",
+        ] {
+            assert!(svg.contains(label), "{label}");
+        }
+        assert!(set.paths.is_empty(), "a fixed-n method has no path");
+        // One look only: nothing to draw over looks.
+        let mut one = a.clone();
+        one.looks.history.truncate(1);
+        assert!(render_plots(&one).expect("draws").looks.is_empty());
+    }
+
+    #[test]
+    fn path_chart_marks_every_look_and_stays_inside_its_axes() {
+        let a = fixture("anytime");
+        let set = render_plots(&a).expect("draws");
+        assert_eq!(set.paths.len(), 1);
+        let svg = &set.paths[0];
+        // tests/data/looks-anytime-results.json: path.looks holds looks at 60,000, 150,000 and
+        // 240,000 trials: three marks (filled, each with a white ring) plus the legend's dot.
+        assert_eq!(filled(svg, "circle", "#1F4E79"), 3 + 1);
+        assert!(
+            svg.contains("look 3") && svg.contains("(log scale)"),
+            "{svg}"
+        );
+        // The confidence is the model's display string (with its no-break space).
+        let title = format!(
+            "Upper {} confidence bound along the trials",
+            a.claim.display.confidence
+        );
+        assert!(svg.contains(&title), "{svg}");
+        // The path starts at the top of the range (2.5 m at one trial) and is cut at the top
+        // of the chart: the axis stops below 1 m (2.5 × the largest look bound, hand-worked).
+        assert!(!svg.contains(">2.5<") && !svg.contains(">1.0<"), "{svg}");
+        assert_eq!(set.looks.len(), 1, "three looks of an anytime method too");
+    }
+
+    #[test]
+    fn running_bounds_intersect_looks_so_far() {
+        let v = [Some(0.5), Some(0.6), None, Some(0.3)];
+        assert_eq!(
+            running(&v, true),
+            vec![Some(0.5), Some(0.5), Some(0.5), Some(0.3)]
+        );
+        assert_eq!(
+            running(&v, false),
+            vec![Some(0.5), Some(0.6), Some(0.6), Some(0.6)]
+        );
+        assert_eq!(running(&[None, Some(1.0)], true), vec![None, Some(1.0)]);
+    }
+
+    #[test]
+    fn clipping_cuts_a_line_where_it_leaves_the_band() {
+        // Worked by hand: from (0, 4) to (2, 0) the line crosses y = 2 at x = 1.
+        assert_eq!(
+            clip_band(&[(0.0, 4.0), (2.0, 0.0)], 0.0, 2.0),
+            vec![vec![(1.0, 2.0), (2.0, 0.0)]]
+        );
+        // Out and back in: two runs.
+        let runs = clip_band(&[(0.0, 1.0), (1.0, 3.0), (2.0, 1.0)], 0.0, 2.0);
+        assert_eq!(
+            runs,
+            vec![vec![(0.0, 1.0), (0.5, 2.0)], vec![(1.5, 2.0), (2.0, 1.0)]]
+        );
+        assert!(clip_band(&[(0.0, 5.0), (1.0, 6.0)], 0.0, 2.0).is_empty());
+    }
+
+    #[test]
+    fn trial_axes_turn_logarithmic_for_wide_spans() {
+        // 800 to 2,300 trials: linear from 0, whole-number ticks.
+        let axis = TrialsAxis::fit([800.0, 1600.0, 2300.0].into_iter());
+        assert!(!axis.log && axis.lo == 0.0);
+        assert!(axis.ticks.iter().all(|t| t.fract() == 0.0));
+        // 1 to 240,000: logarithmic, ticks at powers of ten (log_ticks keeps those alone).
+        let axis = TrialsAxis::fit([1.0, 240_000.0].into_iter());
+        assert!(axis.log);
+        assert_eq!(axis.label(axis.ticks[1]), "10");
+    }
+
+    #[test]
+    fn best_scope_marks_the_selected_arm() {
+        let mut a = fixture("clustered");
+        let svg = render_plots(&a).expect("draws").arms.expect("two arms");
+        // scope all with two arms (tests/data/clustered-looks-results.json).
+        assert!(svg.contains("scope all: Bonferroni δ/2 over the arms; each bound at δ = 0.0125"));
+        assert!(!svg.contains("(selected)"));
+        a.claim.scope = "best".into();
+        // line-1 has the smaller observed rate (1.38 % against 2.10 %): it is the one selected.
+        assert_eq!(selected_arm(&a), Some(0));
+        let svg = render_plots(&a).expect("draws").arms.expect("two arms");
+        assert!(svg.contains("line-1 (selected)") && !svg.contains("line-2 (selected)"));
+        assert!(svg.contains("scope best: the best of 2 arms is certified at δ/2"));
+        a.claim.side = "lower".into();
+        assert_eq!(
+            selected_arm(&a),
+            Some(1),
+            "a lower claim selects the largest rate"
+        );
+    }
+
+    #[test]
+    fn labels_are_measured_as_typst_sets_them() {
+        // Independent measure: the face's own advance widths (hmtx) at the size typst uses,
+        // plotters-svg's font-size, which is the plotters size divided by 1.24.
+        register_fonts().unwrap();
+        let text = "running bound (decides the verdict)";
+        let face = typst::text::Font::new(typst::foundations::Bytes::new(SANS_REGULAR), 0)
+            .expect("face parses");
+        let inst = face.clone().instantiate(
+            face.info().variant,
+            typst::layout::Abs::pt(10.0),
+            &typst::text::FontVariations::default(),
+        );
+        let t = inst.ttf();
+        let ems: f64 = text
+            .chars()
+            .map(|c| {
+                let g = t.glyph_index(c).expect("glyph");
+                f64::from(t.glyph_hor_advance(g).expect("advance")) / f64::from(t.units_per_em())
+            })
+            .sum();
+        let expected = ems * 15.0 / 1.24;
+        let measured = text_width(&(SANS_FAMILY, 15).into_font(), text) as f64;
+        assert!(
+            (measured - expected).abs() <= 2.0,
+            "{measured} vs {expected}"
+        );
     }
 }

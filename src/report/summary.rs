@@ -89,6 +89,10 @@ fn mean_and_spread(a: &Analysis, mean: &str, sd: &str) -> String {
 /// standard deviation in the outcome's unit. Every figure is a display string of the model.
 pub fn summary(a: &Analysis) -> String {
     let mut out = header(a);
+    let _ = writeln!(out, "look     {}", look_status(a));
+    if let Some(note) = &a.looks.ledger.new_ledger {
+        let _ = writeln!(out, "         {note}");
+    }
     let _ = writeln!(out, "verdict  {}", verdict_word(a.verdict));
     let _ = writeln!(out, "         {}", a.statement);
     let binary = a.outcome.kind == "binary";
@@ -111,7 +115,10 @@ pub fn summary(a: &Analysis) -> String {
         }
     }
     let dash = || "–".to_string();
-    let mut header = vec!["arm".to_string(), "trials".to_string()];
+    // A clustered analysis counts clusters: its `n` is the effective sample size.
+    let clustered = a.arms.iter().any(|arm| arm.nominal.is_some());
+    let counted = if clustered { "clusters" } else { "trials" };
+    let mut header = vec!["arm".to_string(), counted.to_string()];
     if binary {
         header.push("events".to_string());
         header.push("observed".to_string());
@@ -234,6 +241,36 @@ pub fn summary(a: &Analysis) -> String {
             );
         }
     }
+    for arm in &a.arms {
+        if let Some(c) = &arm.nominal {
+            let events = match c.events {
+                Some(e) => format!(
+                    " ({} {})",
+                    crate::analysis::display::count(e),
+                    if e == 1 { "event" } else { "events" }
+                ),
+                None => String::new(),
+            };
+            let _ = writeln!(
+                out,
+                "  {}: {} trials{events} in {} clusters, {} per cluster ({} to {}); effective n = {}",
+                arm.name,
+                c.display.trials,
+                c.display.clusters,
+                c.display.per_cluster,
+                crate::analysis::display::count(c.smallest_cluster),
+                crate::analysis::display::count(c.largest_cluster),
+                c.display.clusters
+            );
+        }
+    }
+    if let Some(m) = a.dependence.m {
+        let _ = writeln!(
+            out,
+            "  dependence {} with m = {m}: trials more than {m} apart taken as independent",
+            a.dependence.model
+        );
+    }
     for m in &a.omitted_methods {
         let _ = writeln!(out, "  not computed: {} ({})", m.method, m.reason);
     }
@@ -268,4 +305,24 @@ pub fn summary(a: &Analysis) -> String {
         let _ = writeln!(out, "  note: {w}");
     }
     out
+}
+
+/// Where this look stands in the study's ledger, in a few words: the look's number (of how
+/// many planned), and whether it was registered, re-issued or not registered at all.
+pub fn look_status(a: &Analysis) -> String {
+    let l = &a.looks;
+    let file = l.ledger.file.as_deref().unwrap_or("the ledger");
+    let which = if l.mode == "anytime" {
+        format!("{}, anytime-valid", l.look)
+    } else {
+        format!("{} of {} planned", l.look, l.planned)
+    };
+    match l.ledger.status.as_str() {
+        "not-registered" => "not registered (--no-ledger): exploration only".to_string(),
+        "re-issue" => format!("{which}, re-issued (already in {file}; nothing further spent)"),
+        _ if l.mode == "anytime" => {
+            format!("{which} (registered in {file}; looking again spends nothing)")
+        }
+        _ => format!("{which} (registered in {file})"),
+    }
 }
