@@ -1225,8 +1225,38 @@ pub fn analyse(spec: &Spec, data: &Dataset, ctx: &Context) -> Result<Analysis, S
     let arm_results: Vec<ArmResult> = arms
         .iter()
         .map(|arm| {
-            let own = bound_result(primary, arm, per_bound, true, &setting);
-            let (own_lower, own_upper) = (own.lower, own.upper);
+            let mut own = bound_result(primary, arm, per_bound, true, &setting);
+            let upper_decides = deciding_is_upper(side);
+            let marks: Vec<(u64, Option<f64>)> = earlier
+                .iter()
+                .filter_map(|r| r.arms.iter().find(|a| a.name == arm.name))
+                .map(|a| (a.n, if upper_decides { a.upper } else { a.lower }))
+                .collect();
+            let mut path = bound_path(primary, arm, per_bound, side, &scale, &marks);
+            if let Some(p) = path.as_mut() {
+                // The path's last point is the running intersection over every prefix of this
+                // look's trials, which a confidence sequence allows and which is never looser
+                // than the bound from the totals alone: the look's own bound is the tighter.
+                if let Some(&[t, v]) = p.points.last()
+                    && t == arm.n as f64
+                {
+                    let tighter = if upper_decides {
+                        own.upper.filter(|&u| v < u).map(|_| own.upper = Some(v))
+                    } else {
+                        own.lower.filter(|&l| v > l).map(|_| own.lower = Some(v))
+                    };
+                    if tighter.is_some() {
+                        own.vacuous = false;
+                        own.display = BoundDisplay {
+                            upper: own.upper.map(|u| scale.show(u, Rounding::Up)),
+                            lower: own.lower.map(|l| scale.show(l, Rounding::Down)),
+                        };
+                    }
+                }
+                if let Some(b) = if upper_decides { own.upper } else { own.lower } {
+                    p.looks.push([arm.n as f64, b]);
+                }
+            }
             let (lower, upper) = looks::intersect((own.lower, own.upper), &arm.name, &earlier);
             if let Some(before) = looks::shrunk(&lc.earlier, &arm.name, arm.n) {
                 shrunk.push(format!(
@@ -1310,7 +1340,12 @@ pub fn analyse(spec: &Spec, data: &Dataset, ctx: &Context) -> Result<Analysis, S
                 primary,
                 compare,
                 verdict: v,
-                curve: curve(selection.primary, arm, per_bound, side),
+                // Along-the-trials paths replace the projection for a confidence sequence.
+                curve: if path.is_some() {
+                    None
+                } else {
+                    curve(selection.primary, arm, per_bound, side)
+                },
                 values,
                 nominal: arm.nominal.map(|n| NominalInfo {
                     trials: n.trials,
@@ -1324,36 +1359,7 @@ pub fn analyse(spec: &Spec, data: &Dataset, ctx: &Context) -> Result<Analysis, S
                         per_cluster: format!("{:.1}", n.trials as f64 / n.clusters.max(1) as f64),
                     },
                 }),
-                path: bound_path(
-                    selection.primary,
-                    arm,
-                    per_bound,
-                    side,
-                    &scale,
-                    &lc.earlier
-                        .iter()
-                        .filter(|r| looks::combinable(r, selection.primary, look_delta))
-                        .filter_map(|r| r.arms.iter().find(|a| a.name == arm.name))
-                        .map(|a| {
-                            (
-                                a.n,
-                                if deciding_is_upper(side) {
-                                    a.upper
-                                } else {
-                                    a.lower
-                                },
-                            )
-                        })
-                        .chain(std::iter::once((
-                            arm.n,
-                            if deciding_is_upper(side) {
-                                own_upper
-                            } else {
-                                own_lower
-                            },
-                        )))
-                        .collect::<Vec<_>>(),
-                ),
+                path,
                 display: ArmDisplay {
                     mean: scale.show(mean, Rounding::Nearest),
                     n: display::count(arm.n),
