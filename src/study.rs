@@ -110,7 +110,13 @@ pub fn ledger_path(spec: &Spec, spec_path: &Path) -> PathBuf {
     }
 }
 
-fn ledger_error(path: &Path, error: ledger::LedgerError) -> Error {
+fn ledger_error(path: &Path, mut error: ledger::LedgerError) -> Error {
+    // The edge prints the location once, as path:line; the ledger's own message may start
+    // with the path too.
+    let prefix = format!("{}: ", path.display());
+    if let Some(rest) = error.message.strip_prefix(&prefix) {
+        error.message = rest.to_string();
+    }
     Error::Ledger {
         path: path.display().to_string(),
         error,

@@ -156,6 +156,11 @@ fn a_damaged_ledger_stops_the_run_until_replaced() {
     assert_eq!(o.status.code(), Some(2));
     let err = String::from_utf8_lossy(&o.stderr);
     assert!(err.contains("valve-endurance.ledger.jsonl:1"), "{err}");
+    assert_eq!(
+        err.matches("valve-endurance.ledger.jsonl").count(),
+        1,
+        "{err}"
+    );
     assert!(err.contains("--new-ledger"), "{err}");
     // Nothing was written: the report of look 2 and the damaged ledger are untouched.
     assert_eq!(
