@@ -40,6 +40,8 @@ pub struct Prepared {
     /// The ledger line this run will append once its outputs exist, with the ledger held
     /// locked until then.
     pub pending: Option<PendingLook>,
+    /// With [`LedgerUse::Peek`]: what the ledger holds and what a run would record.
+    pub ledger_preview: Option<String>,
 }
 
 /// How a run treats the study's look ledger.
@@ -315,6 +317,7 @@ pub fn analyse_loaded(
     let primary = analysis::select_methods(&spec)?.primary;
     let key = provenance::look_key(&spec, primary.id, &data.inputs);
     let spec_sha256 = sha256_hex(&spec_bytes);
+    let mut preview = None;
     let (look_context, pending) = match looks {
         LookSource::Recorded(c) => (c, None),
         LookSource::Ledger(LedgerUse::Skip) => (LookContext::unregistered(), None),
@@ -337,6 +340,17 @@ pub fn analyse_loaded(
                         }
                     };
                     let mut c = context_from(&state, &key, &file, "not-registered");
+                    let looks = state.looks().len();
+                    preview = Some(format!(
+                        "{file}: {} look{} recorded, chain verified; `surety run` now would {}",
+                        looks,
+                        if looks == 1 { "" } else { "s" },
+                        if c.ledger.status == "re-issue" {
+                            format!("re-issue look {} (same inputs and claim)", c.look)
+                        } else {
+                            format!("record look {}", c.look)
+                        }
+                    ));
                     c.ledger.status = "not-registered".to_string();
                     (c, None)
                 }
@@ -449,6 +463,7 @@ pub fn analyse_loaded(
         analysis,
         embedded,
         pending,
+        ledger_preview: preview,
     })
 }
 

@@ -78,6 +78,9 @@ pub fn run(args: Args) -> Result<i32, Error> {
     for s in &a.adjustments.steps {
         let _ = writeln!(out, "         {}", s.reason);
     }
+    if let Some(p) = &prepared.ledger_preview {
+        let _ = writeln!(out, "ledger   {p}");
+    }
     let _ = writeln!(out, "assumptions:");
     for c in &a.checklist {
         let who =
