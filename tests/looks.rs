@@ -119,6 +119,14 @@ fn sha256(bytes: &[u8]) -> String {
 fn a_rerun_on_the_same_inputs_is_a_reissue() {
     let (_dir, root) = endurance(1);
     ok(&run_in(&root, &["run", "study.yaml"]));
+    // `surety check` reads the ledger without writing to it, and says what a run would do.
+    let before = ledger(&root);
+    let o = run_in(&root, &["check", "study.yaml"]);
+    ok(&o);
+    let text = String::from_utf8_lossy(&o.stdout);
+    assert!(text.contains("1 look recorded, chain verified"), "{text}");
+    assert!(text.contains("would re-issue look 1"), "{text}");
+    assert_eq!(ledger(&root), before);
     // A fixed typo in the title changes the spec but not the look.
     let spec = std::fs::read_to_string(root.join("study.yaml")).unwrap();
     std::fs::write(
