@@ -155,7 +155,8 @@ fn record_of(e: &Entry) -> LookRecord {
 /// with that key, or the next look.
 fn context_from(state: &Ledger, key: &str, file: &str, status_new: &str) -> LookContext {
     let looks = state.looks();
-    let previous = Some(state.head());
+    // A first look extends no chain: it starts the ledger.
+    let previous = (!state.entries.is_empty()).then(|| state.head());
     match state.find_key(key) {
         Some(e) => LookContext {
             look: e.look,

@@ -193,7 +193,8 @@ dependence: {model: clustered}
     assert_eq!((nominal.smallest_cluster, nominal.largest_cluster), (1, 3));
     // Mean over clusters: (1/3 + 0 + 1)/3 = 4/9, not the trial-level 1/2.
     assert!((arm.mean - 4.0 / 9.0).abs() < 1e-12, "{}", arm.mean);
-    assert_eq!(a.methods[0].id, "betting");
+    // auto for pass/fail trials in clusters: Chernoff-kl on the cluster means.
+    assert_eq!(a.methods[0].id, "chernoff-kl");
     assert!(a.checklist.iter().any(|c| c.id == "independent-clusters"));
     assert!(a.dependence.estimand.contains("over clusters"));
 }

@@ -325,6 +325,9 @@ fn auto_method(spec: &Spec) -> &'static str {
     match (spec.dependence.model, spec.outcome.kind) {
         (D::MDependent, _) => "hoeffding",
         (D::Clustered, _) | (_, spec::OutcomeKind::Bounded) if anytime => "betting-sequence",
+        // Cluster means of pass/fail trials sit near 0 when failures are rare, where the kl
+        // bound (the binomial bound's extension to [0, 1] values) is the tight one.
+        (D::Clustered, spec::OutcomeKind::Binary) => "chernoff-kl",
         (D::Clustered, _) => "betting",
         (_, spec::OutcomeKind::Binary) if anytime => "beta-binomial-mixture",
         (_, spec::OutcomeKind::Binary) => "exact",
