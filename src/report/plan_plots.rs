@@ -18,7 +18,10 @@ use typst::layout::Abs;
 use typst::text::FontVariations;
 
 use super::fonts::SANS_FAMILY;
-use super::plots::{ACCENT, AXIS, GRID, INK, LIMIT, register_fonts, span_axis};
+use super::plots::{
+    ACCENT, Frame, INK, LIMIT, draw_limit, house_chart, house_mesh, register_fonts, span_axis,
+    white_canvas,
+};
 use crate::analysis::display::{self, Rounding};
 use crate::plan::operating::{SawPoint, sawtooth};
 use crate::plan::{PlanResults, min_trials, pass_probability};
@@ -407,32 +410,22 @@ pub(crate) fn oc_svg(plan: &PlanResults) -> Result<Option<String>, String> {
         let (rows, widths) = legend_rows(&entries, font_px - 1, w);
         let legend_h = rows.len() as u32 * LEGEND_ROW + 10;
         let h = plot_h + legend_h;
-        let root = SVGBackend::with_string(&mut svg, (w, h)).into_drawing_area();
-        root.fill(&WHITE).map_err(|e| e.to_string())?;
+        let root = white_canvas(&mut svg, (w, h))?;
         let (upper, lower) = root.split_vertically(plot_h);
-        let mut chart = ChartBuilder::on(&upper)
-            .caption(
-                "Chance of passing against the true rate",
-                (SANS_FAMILY, 16, FontStyle::Bold).into_font().color(&INK),
-            )
-            .margin_top(6)
-            .margin_left(8)
-            .margin_right(20)
-            .x_label_area_size(44)
-            .y_label_area_size(56)
-            .build_cartesian_2d(
-                span_axis(0.0, xmax * f, xticks),
-                span_axis(0.0, 100.0, yticks),
-            )
-            .map_err(|e| e.to_string())?;
-        let label_font = (SANS_FAMILY, font_px).into_font().color(&INK);
-        chart
-            .configure_mesh()
-            .bold_line_style(GRID.stroke_width(1))
-            .light_line_style(TRANSPARENT)
-            .axis_style(AXIS.stroke_width(1))
-            .label_style(label_font.clone())
-            .axis_desc_style(label_font.clone())
+        let frame = Frame {
+            title: "Chance of passing against the true rate",
+            title_px: 16,
+            margin_right: 20,
+            x_labels: 44,
+            y_labels: 56,
+        };
+        let mut chart = house_chart(
+            &upper,
+            frame,
+            span_axis(0.0, xmax * f, xticks),
+            span_axis(0.0, 100.0, yticks),
+        )?;
+        house_mesh(&mut chart, font_px)
             .x_desc(format!("true rate ({})", scale.unit))
             .y_desc("chance of passing (%)")
             .x_label_formatter(&|v| format!("{:.*}", xdec, v))
@@ -448,14 +441,7 @@ pub(crate) fn oc_svg(plan: &PlanResults) -> Result<Option<String>, String> {
                 LIMIT.stroke_width(1),
             ))
             .map_err(|e| e.to_string())?;
-        chart
-            .draw_series(DashedLineSeries::new(
-                vec![(limit * f, 0.0), (limit * f, 100.0)],
-                7,
-                5,
-                LIMIT.stroke_width(2),
-            ))
-            .map_err(|e| e.to_string())?;
+        draw_limit(&mut chart, (limit * f, 0.0), (limit * f, 100.0))?;
         if let Some(a) = assumed.filter(|a| *a <= xmax) {
             chart
                 .draw_series(DashedLineSeries::new(
@@ -637,21 +623,21 @@ pub(crate) fn sawtooth_svg(plan: &PlanResults) -> Result<Option<String>, String>
         let (rows, widths) = legend_rows(&entries, font_px - 1, w);
         let legend_h = rows.len() as u32 * LEGEND_ROW + 10;
         let h = plot_h + legend_h;
-        let root = SVGBackend::with_string(&mut svg, (w, h)).into_drawing_area();
-        root.fill(&WHITE).map_err(|e| e.to_string())?;
+        let root = white_canvas(&mut svg, (w, h))?;
         let (upper, lower) = root.split_vertically(plot_h);
-        let mut chart = ChartBuilder::on(&upper)
-            .caption(
-                "Chance of passing at the assumed rate, by number of trials",
-                (SANS_FAMILY, 16, FontStyle::Bold).into_font().color(&INK),
-            )
-            .margin_top(6)
-            .margin_left(8)
-            .margin_right(24)
-            .x_label_area_size(44)
-            .y_label_area_size(62)
-            .build_cartesian_2d(span_axis(xlo, xhi, xticks), span_axis(ylo, yhi, yticks))
-            .map_err(|e| e.to_string())?;
+        let frame = Frame {
+            title: "Chance of passing at the assumed rate, by number of trials",
+            title_px: 16,
+            margin_right: 24,
+            x_labels: 44,
+            y_labels: 62,
+        };
+        let mut chart = house_chart(
+            &upper,
+            frame,
+            span_axis(xlo, xhi, xticks),
+            span_axis(ylo, yhi, yticks),
+        )?;
         // The band first, so grid lines and data are drawn over it.
         chart
             .draw_series(std::iter::once(Rectangle::new(
@@ -659,14 +645,7 @@ pub(crate) fn sawtooth_svg(plan: &PlanResults) -> Result<Option<String>, String>
                 HELD.filled(),
             )))
             .map_err(|e| e.to_string())?;
-        let label_font = (SANS_FAMILY, font_px).into_font().color(&INK);
-        chart
-            .configure_mesh()
-            .bold_line_style(GRID.stroke_width(1))
-            .light_line_style(TRANSPARENT)
-            .axis_style(AXIS.stroke_width(1))
-            .label_style(label_font.clone())
-            .axis_desc_style(label_font.clone())
+        house_mesh(&mut chart, font_px)
             .x_desc("number of trials")
             .y_desc("chance of passing (%)")
             .x_label_formatter(&|v| trials_label(*v))

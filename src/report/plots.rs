@@ -10,8 +10,9 @@ use std::sync::OnceLock;
 
 use std::ops::Range;
 
+use plotters::chart::MeshStyle;
 use plotters::coord::combinators::LogCoord;
-use plotters::coord::ranged1d::{DefaultFormatting, KeyPointHint, Ranged};
+use plotters::coord::ranged1d::{DefaultFormatting, KeyPointHint, Ranged, ValueFormatter};
 use plotters::coord::types::RangedCoordf64;
 use plotters::prelude::*;
 use plotters::style::FontStyle;
@@ -630,6 +631,211 @@ fn legend<DB: DrawingBackend>(
     Ok(())
 }
 
+/// Legend rows laid out for a chart's width, with the height they take below it.
+struct Legend {
+    rows: Vec<Vec<(Key, String)>>,
+    row_h: u32,
+    font_px: u32,
+}
+
+impl Legend {
+    /// Lays `entries` out in as few rows of `row_h` pixels as fit `width` ([`legend_rows`]).
+    fn lay_out(entries: Vec<(Key, String)>, font_px: u32, width: u32, row_h: u32) -> Self {
+        Legend {
+            rows: legend_rows(entries, font_px, width),
+            row_h,
+            font_px,
+        }
+    }
+
+    /// Pixels the legend takes, with a little air below the last row.
+    fn height(&self) -> u32 {
+        self.row_h * self.rows.len() as u32 + 4
+    }
+
+    /// Draws the rows in `area`, which should be [`Legend::height`] pixels high.
+    fn draw<DB: DrawingBackend>(
+        &self,
+        area: &DrawingArea<DB, plotters::coord::Shift>,
+    ) -> Result<(), String> {
+        legend_stack(area, &self.rows, self.row_h, self.font_px)
+    }
+}
+
+/// The sizes of one arm's chart: full width for a single arm or, `small`, narrower with
+/// larger type when there are several arms' charts to show.
+struct Panel {
+    small: bool,
+    w: u32,
+    h: u32,
+    font_px: u32,
+    title_px: u32,
+}
+
+impl Panel {
+    /// A panel whose full-width form is `wide_h` pixels high; small ones are all 440 × 330.
+    fn new(small: bool, wide_h: u32) -> Self {
+        let (w, h, font_px, title_px) = if small {
+            (440, 330, 16, 17)
+        } else {
+            (660, wide_h, 14, 16)
+        };
+        Panel {
+            small,
+            w,
+            h,
+            font_px,
+            title_px,
+        }
+    }
+
+    /// Height of the area under the plot that holds the trial or value tick labels.
+    fn x_labels(&self) -> u32 {
+        if self.small { 44 } else { 42 }
+    }
+
+    /// Width of the area left of the plot that holds the value tick labels and axis title.
+    fn value_labels(&self) -> u32 {
+        if self.small { 70 } else { 72 }
+    }
+
+    /// Height of one legend row under the plot.
+    fn legend_row_h(&self) -> u32 {
+        if self.small { 25 } else { 26 }
+    }
+}
+
+/// A white SVG canvas of `size` pixels writing into `svg`, shared with the plan report's
+/// charts so that both reports start from the same page colour.
+pub(crate) fn white_canvas(
+    svg: &mut String,
+    size: (u32, u32),
+) -> Result<DrawingArea<SVGBackend<'_>, plotters::coord::Shift>, String> {
+    let root = SVGBackend::with_string(svg, size).into_drawing_area();
+    root.fill(&WHITE).map_err(|e| e.to_string())?;
+    Ok(root)
+}
+
+/// What varies between charts in the house frame: the title and the room around the plot.
+pub(crate) struct Frame<'t> {
+    /// The caption above the plot.
+    pub title: &'t str,
+    /// Font size of the caption, in pixels.
+    pub title_px: u32,
+    /// Room right of the plot, for the last tick label or for labels printed beside rows.
+    pub margin_right: u32,
+    /// Height of the area below the plot (tick labels and axis title).
+    pub x_labels: u32,
+    /// Width of the area left of the plot (tick labels and axis title).
+    pub y_labels: u32,
+}
+
+/// A chart on `area` in the house frame, which every chart of both reports shares: a bold
+/// title in ink and the same top and left margins, so that the charts read as one set.
+pub(crate) fn house_chart<'a, DB, X, Y>(
+    area: &'a DrawingArea<DB, plotters::coord::Shift>,
+    frame: Frame<'_>,
+    x: X,
+    y: Y,
+) -> Result<ChartContext<'a, DB, Cartesian2d<X, Y>>, String>
+where
+    DB: DrawingBackend,
+    X: Ranged,
+    Y: Ranged,
+{
+    ChartBuilder::on(area)
+        .caption(
+            frame.title,
+            (SANS_FAMILY, frame.title_px, FontStyle::Bold)
+                .into_font()
+                .color(&INK),
+        )
+        .margin_top(6)
+        .margin_left(8)
+        .margin_right(frame.margin_right)
+        .x_label_area_size(frame.x_labels)
+        .y_label_area_size(frame.y_labels)
+        .build_cartesian_2d(x, y)
+        .map_err(|e| e.to_string())
+}
+
+/// The house mesh of `chart`: grid lines at the labelled ticks only, grey axes, labels in ink at
+/// `font_px`; the caller adds the axis titles and label formats and draws it.
+pub(crate) fn house_mesh<'a, 'b, DB, X, Y>(
+    chart: &'b mut ChartContext<'a, DB, Cartesian2d<X, Y>>,
+    font_px: u32,
+) -> MeshStyle<'a, 'b, X, Y, DB>
+where
+    DB: DrawingBackend,
+    X: Ranged + ValueFormatter<X::ValueType>,
+    Y: Ranged + ValueFormatter<Y::ValueType>,
+{
+    let label_font = (SANS_FAMILY, font_px).into_font().color(&INK);
+    let mut mesh = chart.configure_mesh();
+    mesh.bold_line_style(GRID.stroke_width(1))
+        .light_line_style(TRANSPARENT)
+        .axis_style(AXIS.stroke_width(1))
+        .label_style(label_font.clone())
+        .axis_desc_style(label_font);
+    mesh
+}
+
+/// Draws the claim's limit as the house dashed line from `from` to `to`, in chart units, so
+/// that the limit looks the same on every chart of both reports.
+pub(crate) fn draw_limit<DB, X, Y>(
+    chart: &mut ChartContext<'_, DB, Cartesian2d<X, Y>>,
+    from: (f64, f64),
+    to: (f64, f64),
+) -> Result<(), String>
+where
+    DB: DrawingBackend,
+    X: Ranged<ValueType = f64>,
+    Y: Ranged<ValueType = f64>,
+{
+    chart
+        .draw_series(DashedLineSeries::new(
+            vec![from, to],
+            7,
+            5,
+            LIMIT.stroke_width(2),
+        ))
+        .map_err(|e| e.to_string())?;
+    Ok(())
+}
+
+/// Marks a point of a bound with a filled dot in a thin white ring, which keeps it apart from
+/// the line it sits on.
+fn draw_mark<DB, X, Y>(
+    chart: &mut ChartContext<'_, DB, Cartesian2d<X, Y>>,
+    at: (f64, f64),
+) -> Result<(), String>
+where
+    DB: DrawingBackend,
+    X: Ranged<ValueType = f64>,
+    Y: Ranged<ValueType = f64>,
+{
+    chart
+        .draw_series(std::iter::once(Circle::new(at, 5, ACCENT.filled())))
+        .map_err(|e| e.to_string())?;
+    chart
+        .draw_series(std::iter::once(Circle::new(at, 5, WHITE.stroke_width(1))))
+        .map_err(|e| e.to_string())?;
+    Ok(())
+}
+
+/// The legend entry of the claim's limit, as every run-report chart shows it.
+fn limit_entry(a: &Analysis) -> (Key, String) {
+    (
+        Key::Line(LIMIT, true),
+        format!("limit {}", clean(&a.claim.display.limit)),
+    )
+}
+
+/// "Arm <name>": the title of one arm's chart when several arms share a page.
+fn arm_title(arm: &ArmResult) -> String {
+    format!("Arm {}", shorten(&arm.name, 34))
+}
+
 /// The deciding bound of one arm against the number of trials.
 fn curve_svg(
     a: &Analysis,
@@ -638,11 +844,7 @@ fn curve_svg(
     scale: &Scale,
     small: bool,
 ) -> Result<String, String> {
-    let (w, h, font_px, title_px) = if small {
-        (440, 330, 16, 17)
-    } else {
-        (660, 350, 14, 16)
-    };
+    let panel = Panel::new(small, 350);
     let held: Vec<(f64, f64)> = finite(&curve.at_observed_rate).collect();
     let none: Vec<(f64, f64)> = finite(&curve.no_further_events).collect();
     let obs = (curve.observed[0], curve.observed[1]);
@@ -678,7 +880,7 @@ fn curve_svg(
 
     let side = side_word(&curve.bound);
     let title = if a.arms.len() > 1 {
-        format!("Arm {}", shorten(&arm.name, 34))
+        arm_title(arm)
     } else {
         format!(
             "{} {} bound against number of trials",
@@ -697,36 +899,21 @@ fn curve_svg(
         },
         deciding_display(a, arm).unwrap_or_else(|| "n/a".into())
     );
-    let limit_label = format!("limit {}", clean(&a.claim.display.limit));
 
     let mut svg = String::new();
     {
-        let root = SVGBackend::with_string(&mut svg, (w, h)).into_drawing_area();
-        root.fill(&WHITE).map_err(|e| e.to_string())?;
+        let root = white_canvas(&mut svg, (panel.w, panel.h))?;
         let legend_h = if small { 52 } else { 30 };
-        let (upper, lower) = root.split_vertically(h - legend_h);
-        let mut chart = ChartBuilder::on(&upper)
-            .caption(
-                &title,
-                (SANS_FAMILY, title_px, FontStyle::Bold)
-                    .into_font()
-                    .color(&INK),
-            )
-            .margin_top(6)
-            .margin_left(8)
-            .margin_right(18)
-            .x_label_area_size(if small { 44 } else { 42 })
-            .y_label_area_size(if small { 58 } else { 62 })
-            .build_cartesian_2d(log_axis(xlo, xhi), linear_axis(ymax, yticks))
-            .map_err(|e| e.to_string())?;
-        let label_font = (SANS_FAMILY, font_px).into_font().color(&INK);
-        chart
-            .configure_mesh()
-            .bold_line_style(GRID.stroke_width(1))
-            .light_line_style(TRANSPARENT)
-            .axis_style(AXIS.stroke_width(1))
-            .label_style(label_font.clone())
-            .axis_desc_style(label_font.clone())
+        let (upper, lower) = root.split_vertically(panel.h - legend_h);
+        let frame = Frame {
+            title: &title,
+            title_px: panel.title_px,
+            margin_right: 18,
+            x_labels: panel.x_labels(),
+            y_labels: if small { 58 } else { 62 },
+        };
+        let mut chart = house_chart(&upper, frame, log_axis(xlo, xhi), linear_axis(ymax, yticks))?;
+        house_mesh(&mut chart, panel.font_px)
             .x_desc("number of trials (log scale)")
             .y_desc(format!("{} bound{}", side, scale.axis_unit()))
             .x_label_formatter(&|v| trials_label(*v))
@@ -735,14 +922,7 @@ fn curve_svg(
             .map_err(|e| e.to_string())?;
 
         let f = scale.factor;
-        chart
-            .draw_series(DashedLineSeries::new(
-                vec![(xlo, limit * f), (xhi, limit * f)],
-                7,
-                5,
-                LIMIT.stroke_width(2),
-            ))
-            .map_err(|e| e.to_string())?;
+        draw_limit(&mut chart, (xlo, limit * f), (xhi, limit * f))?;
         chart
             .draw_series(DashedLineSeries::new(
                 none.iter().map(|(x, y)| (*x, y * f)).collect::<Vec<_>>(),
@@ -758,37 +938,24 @@ fn curve_svg(
             ))
             .map_err(|e| e.to_string())?;
         if obs.0 > 0.0 && obs.1.is_finite() {
-            chart
-                .draw_series(std::iter::once(Circle::new(
-                    (obs.0, obs.1 * f),
-                    5,
-                    ACCENT.filled(),
-                )))
-                .map_err(|e| e.to_string())?;
-            chart
-                .draw_series(std::iter::once(Circle::new(
-                    (obs.0, obs.1 * f),
-                    5,
-                    WHITE.stroke_width(1),
-                )))
-                .map_err(|e| e.to_string())?;
+            draw_mark(&mut chart, (obs.0, obs.1 * f))?;
         }
 
         let entries = vec![
             (Key::Line(ACCENT, false), held_label),
             (Key::Line(SECOND, true), none_label),
             (Key::Dot(ACCENT), obs_label),
-            (Key::Line(LIMIT, true), limit_label),
+            limit_entry(a),
         ];
         if small {
             let (l1, l2) = lower.split_vertically(legend_h / 2);
             let mut it = entries.into_iter();
             let first: Vec<_> = it.by_ref().take(2).collect();
             let second: Vec<_> = it.collect();
-            legend(&l1, &first, font_px - 1)?;
-            legend(&l2, &second, font_px - 1)?;
+            legend(&l1, &first, panel.font_px - 1)?;
+            legend(&l2, &second, panel.font_px - 1)?;
         } else {
-            legend(&lower, &entries, font_px - 1)?;
+            legend(&lower, &entries, panel.font_px - 1)?;
         }
         root.present().map_err(|e| e.to_string())?;
     }
@@ -873,40 +1040,32 @@ fn arms_svg(a: &Analysis, scale: &Scale) -> Result<String, String> {
 
     let mut svg = String::new();
     {
-        let root = SVGBackend::with_string(&mut svg, (w, h)).into_drawing_area();
-        root.fill(&WHITE).map_err(|e| e.to_string())?;
+        let root = white_canvas(&mut svg, (w, h))?;
         let legend_h = 50;
         let (upper, lower) = root.split_vertically(h - legend_h);
-        let label_font = (SANS_FAMILY, 14).into_font().color(&INK);
+        let font_px = 14;
+        let label_font: FontDesc = (SANS_FAMILY, font_px).into_font();
         let name_w = names
             .iter()
-            .map(|n| text_width(&label_font.font, n).max(0) as u32)
+            .map(|n| text_width(&label_font, n).max(0) as u32)
             .max()
             .unwrap_or(0)
             + 14;
-        let mut chart = ChartBuilder::on(&upper)
-            .caption(
-                &title,
-                (SANS_FAMILY, 16, FontStyle::Bold).into_font().color(&INK),
-            )
-            .margin_top(6)
-            .margin_left(8)
-            .margin_right(18)
-            .x_label_area_size(42)
-            .y_label_area_size(name_w.max(60))
-            .build_cartesian_2d(
-                span_axis(axis.lo, axis.hi, axis.ticks.clone()),
-                linear_axis(k as f64, (0..k).map(|i| i as f64 + 0.5).collect()),
-            )
-            .map_err(|e| e.to_string())?;
+        let frame = Frame {
+            title: &title,
+            title_px: 16,
+            margin_right: 18,
+            x_labels: 42,
+            y_labels: name_w.max(60),
+        };
+        let mut chart = house_chart(
+            &upper,
+            frame,
+            span_axis(axis.lo, axis.hi, axis.ticks.clone()),
+            linear_axis(k as f64, (0..k).map(|i| i as f64 + 0.5).collect()),
+        )?;
         let names_for_labels = names.clone();
-        chart
-            .configure_mesh()
-            .bold_line_style(GRID.stroke_width(1))
-            .light_line_style(TRANSPARENT)
-            .axis_style(AXIS.stroke_width(1))
-            .label_style(label_font.clone())
-            .axis_desc_style(label_font.clone())
+        house_mesh(&mut chart, font_px)
             .x_desc(axis.title(scale.word, scale))
             .x_label_formatter(&|v| format!("{:.*}", decimals, v))
             .y_label_formatter(&move |v| {
@@ -926,14 +1085,7 @@ fn arms_svg(a: &Analysis, scale: &Scale) -> Result<String, String> {
                 )))
                 .map_err(|e| e.to_string())?;
         }
-        chart
-            .draw_series(DashedLineSeries::new(
-                vec![(limit * f, 0.0), (limit * f, k as f64)],
-                7,
-                5,
-                LIMIT.stroke_width(2),
-            ))
-            .map_err(|e| e.to_string())?;
+        draw_limit(&mut chart, (limit * f, 0.0), (limit * f, k as f64))?;
         for (i, arm) in a.arms.iter().enumerate() {
             let y = (k - 1 - i) as f64 + 0.5;
             let mean = arm.mean * f;
@@ -964,10 +1116,7 @@ fn arms_svg(a: &Analysis, scale: &Scale) -> Result<String, String> {
                 Key::Line(ACCENT, false),
                 format!("{side} bound, primary method"),
             ),
-            (
-                Key::Line(LIMIT, true),
-                format!("limit {}", clean(&a.claim.display.limit)),
-            ),
+            limit_entry(a),
         ];
         let (keys, strip) = lower.split_vertically(28);
         legend(&keys, &entries, 13)?;
@@ -1151,47 +1300,32 @@ fn compare_svg(
             "primary method (the guarantee)".to_string(),
         ),
         (Key::Line(SECOND, false), "compare methods".to_string()),
-        (
-            Key::Line(LIMIT, true),
-            format!("limit {}", clean(&a.claim.display.limit)),
-        ),
+        limit_entry(a),
     ];
 
     let w = 660u32;
     let row_px = 22u32;
-    let legend = legend_rows(entries, font_px, w);
-    let legend_row_h = 26u32;
-    let legend_h = legend_row_h * legend.len() as u32 + 4;
-    let h = 38 + row_px * nrows as u32 + 44 + legend_h;
+    let legend = Legend::lay_out(entries, font_px, w, 26);
+    let h = 38 + row_px * nrows as u32 + 44 + legend.height();
 
     let mut svg = String::new();
     {
-        let root = SVGBackend::with_string(&mut svg, (w, h)).into_drawing_area();
-        root.fill(&WHITE).map_err(|e| e.to_string())?;
-        let (upper, lower) = root.split_vertically(h - legend_h);
-        let label_font = plain.clone().color(&INK);
-        let mut chart = ChartBuilder::on(&upper)
-            .caption(
-                &title,
-                (SANS_FAMILY, 16, FontStyle::Bold).into_font().color(&INK),
-            )
-            .margin_top(6)
-            .margin_left(8)
-            .margin_right(value_w.max(18) as u32)
-            .x_label_area_size(44)
-            .y_label_area_size(label_w.max(60) as u32)
-            .build_cartesian_2d(
-                span_axis(axis.lo, axis.hi, axis.ticks.clone()),
-                linear_axis(nrows as f64, Vec::new()),
-            )
-            .map_err(|e| e.to_string())?;
-        chart
-            .configure_mesh()
-            .bold_line_style(GRID.stroke_width(1))
-            .light_line_style(TRANSPARENT)
-            .axis_style(AXIS.stroke_width(1))
-            .label_style(label_font.clone())
-            .axis_desc_style(label_font.clone())
+        let root = white_canvas(&mut svg, (w, h))?;
+        let (upper, lower) = root.split_vertically(h - legend.height());
+        let frame = Frame {
+            title: &title,
+            title_px: 16,
+            margin_right: value_w.max(18) as u32,
+            x_labels: 44,
+            y_labels: label_w.max(60) as u32,
+        };
+        let mut chart = house_chart(
+            &upper,
+            frame,
+            span_axis(axis.lo, axis.hi, axis.ticks.clone()),
+            linear_axis(nrows as f64, Vec::new()),
+        )?;
+        house_mesh(&mut chart, font_px)
             .x_desc(axis.title(scale.word, scale))
             .x_label_formatter(&|v| format!("{:.*}", decimals, v))
             .draw()
@@ -1313,7 +1447,7 @@ fn compare_svg(
                 }
             }
         }
-        legend_stack(&lower, &legend, legend_row_h, font_px)?;
+        legend.draw(&lower)?;
         root.present().map_err(|e| e.to_string())?;
     }
     Ok(svg)
@@ -1329,11 +1463,7 @@ fn histogram_svg(
     scale: &Scale,
     small: bool,
 ) -> Result<String, String> {
-    let (w, h, font_px, title_px) = if small {
-        (440u32, 330u32, 16u32, 17u32)
-    } else {
-        (660, 330, 14, 16)
-    };
+    let panel = Panel::new(small, 330);
     let f = scale.factor;
     let (ra, rb) = (range[0] * f, range[1] * f);
     let width = rb - ra;
@@ -1349,7 +1479,7 @@ fn histogram_svg(
     let yticks = ticks_between(0.0, ymax, ystep);
 
     let title = if a.arms.len() > 1 {
-        format!("Arm {}", shorten(&arm.name, 34))
+        arm_title(arm)
     } else {
         "Observed values across the declared range".to_string()
     };
@@ -1366,42 +1496,28 @@ fn histogram_svg(
             Key::Line(ACCENT, false),
             format!("observed mean {}", clean(&arm.display.mean)),
         ),
-        (
-            Key::Line(LIMIT, true),
-            format!("limit {}", clean(&a.claim.display.limit)),
-        ),
+        limit_entry(a),
     ];
-    let legend = legend_rows(entries, font_px - 1, w);
-    let legend_row_h = if small { 25 } else { 26 };
-    let legend_h = legend_row_h * legend.len() as u32 + 4;
+    let legend = Legend::lay_out(entries, panel.font_px - 1, panel.w, panel.legend_row_h());
 
     let mut svg = String::new();
     {
-        let root = SVGBackend::with_string(&mut svg, (w, h)).into_drawing_area();
-        root.fill(&WHITE).map_err(|e| e.to_string())?;
-        let (upper, lower) = root.split_vertically(h - legend_h);
-        let label_font = (SANS_FAMILY, font_px).into_font().color(&INK);
-        let mut chart = ChartBuilder::on(&upper)
-            .caption(
-                &title,
-                (SANS_FAMILY, title_px, FontStyle::Bold)
-                    .into_font()
-                    .color(&INK),
-            )
-            .margin_top(6)
-            .margin_left(8)
-            .margin_right(18)
-            .x_label_area_size(if small { 44 } else { 42 })
-            .y_label_area_size(if small { 70 } else { 72 })
-            .build_cartesian_2d(span_axis(lo, hi, xticks), linear_axis(ymax, yticks))
-            .map_err(|e| e.to_string())?;
-        chart
-            .configure_mesh()
-            .bold_line_style(GRID.stroke_width(1))
-            .light_line_style(TRANSPARENT)
-            .axis_style(AXIS.stroke_width(1))
-            .label_style(label_font.clone())
-            .axis_desc_style(label_font.clone())
+        let root = white_canvas(&mut svg, (panel.w, panel.h))?;
+        let (upper, lower) = root.split_vertically(panel.h - legend.height());
+        let frame = Frame {
+            title: &title,
+            title_px: panel.title_px,
+            margin_right: 18,
+            x_labels: panel.x_labels(),
+            y_labels: panel.value_labels(),
+        };
+        let mut chart = house_chart(
+            &upper,
+            frame,
+            span_axis(lo, hi, xticks),
+            linear_axis(ymax, yticks),
+        )?;
+        house_mesh(&mut chart, panel.font_px)
             .x_desc(format!("observed value{}", scale.axis_unit()))
             .y_desc("number of values")
             .x_label_formatter(&|v| format!("{:.*}", decimals, v))
@@ -1459,16 +1575,9 @@ fn histogram_svg(
         }
         let limit = a.claim.limit * f;
         if limit.is_finite() && (lo..=hi).contains(&limit) {
-            chart
-                .draw_series(DashedLineSeries::new(
-                    vec![(limit, 0.0), (limit, ymax)],
-                    7,
-                    5,
-                    LIMIT.stroke_width(2),
-                ))
-                .map_err(err)?;
+            draw_limit(&mut chart, (limit, 0.0), (limit, ymax))?;
         }
-        legend_stack(&lower, &legend, legend_row_h, font_px - 1)?;
+        legend.draw(&lower)?;
         root.present().map_err(|e| e.to_string())?;
     }
     Ok(svg)
@@ -1699,16 +1808,20 @@ struct PointLabel {
     centred: bool,
 }
 
-/// Draws the labels of marked points inside `[left, right]` pixels. When any two would touch,
+/// Draws the labels of marked points, at `font_px`, within the plot's horizontal pixel span
+/// `plot_x` and the right margin beyond it. When any two would touch,
 /// only the last (this look) is labelled: a label beside the wrong point would mislead, while
 /// the legend and the table still say which mark is which.
 fn draw_point_labels<DB: DrawingBackend>(
     root: &DrawingArea<DB, plotters::coord::Shift>,
     labels: &[PointLabel],
-    font: &TextStyle,
-    (left, right): (i32, i32),
+    font_px: u32,
+    plot_x: Range<i32>,
 ) -> Result<(), String> {
     use plotters::style::text_anchor::{HPos, Pos, VPos};
+    let font = (SANS_FAMILY, font_px).into_font().color(&INK);
+    // A label may run on into the right margin, which the charts keep wide for it.
+    let (left, right) = (plot_x.start, plot_x.end + 18);
     let spans: Vec<(i32, i32)> = labels
         .iter()
         .map(|l| {
@@ -1748,6 +1861,46 @@ fn draw_point_labels<DB: DrawingBackend>(
     Ok(())
 }
 
+/// A chart whose axes are both given by ticks on a linear pixel scale.
+type SpanChart<'a, DB> =
+    ChartContext<'a, DB, Cartesian2d<Ticked<RangedCoordf64>, Ticked<RangedCoordf64>>>;
+
+/// A bound against a trial count (the charts over looks and along the trials): trials across
+/// on `x`, the bound up on `axis`, framed and meshed, ready for the data.
+fn trials_chart<'a, DB: DrawingBackend>(
+    area: &'a DrawingArea<DB, plotters::coord::Shift>,
+    panel: &Panel,
+    title: &str,
+    x: &TrialsAxis,
+    axis: &ValueAxis,
+    x_desc: String,
+    y_desc: String,
+) -> Result<SpanChart<'a, DB>, String> {
+    let frame = Frame {
+        title,
+        title_px: panel.title_px,
+        // Wider than the usual 18: the labels of points near the right edge run into it.
+        margin_right: 22,
+        x_labels: panel.x_labels(),
+        y_labels: panel.value_labels(),
+    };
+    let mut chart = house_chart(
+        area,
+        frame,
+        span_axis(x.lo, x.hi, x.ticks.clone()),
+        span_axis(axis.lo, axis.hi, axis.ticks.clone()),
+    )?;
+    let decimals = axis.decimals;
+    house_mesh(&mut chart, panel.font_px)
+        .x_desc(x_desc)
+        .y_desc(y_desc)
+        .x_label_formatter(&|v| x.label(*v))
+        .y_label_formatter(&|v| format!("{:.*}", decimals, v))
+        .draw()
+        .map_err(|e| e.to_string())?;
+    Ok(chart)
+}
+
 /// One look as a chart over looks draws it: the look's number, its position on the trials axis,
 /// and its own and running bound in chart units.
 type LookRow = (u32, f64, Option<f64>, Option<f64>);
@@ -1761,11 +1914,7 @@ fn looks_svg(
     scale: &Scale,
     small: bool,
 ) -> Result<String, String> {
-    let (w, h, font_px, title_px) = if small {
-        (440u32, 330u32, 16u32, 17u32)
-    } else {
-        (660, 330, 14, 16)
-    };
+    let panel = Panel::new(small, 330);
     let f = scale.factor;
     let limit = a.claim.limit * f;
     let x = TrialsAxis::fit(points.iter().map(|p| p.n));
@@ -1794,10 +1943,9 @@ fn looks_svg(
         .chain([limit])
         .collect();
     let axis = ValueAxis::fit(&values, scale.origin * f);
-    let decimals = axis.decimals;
 
     let title = if a.arms.len() > 1 {
-        format!("Arm {}", shorten(&arm.name, 34))
+        arm_title(arm)
     } else if a.claim.side == "two-sided" {
         format!("Bounds over looks ({})", a_confidence(a))
     } else {
@@ -1810,14 +1958,9 @@ fn looks_svg(
     let entries = vec![
         (Key::Ring(SECOND), "each look's own bound".to_string()),
         (Key::LineDot(ACCENT), "running bound (decides)".to_string()),
-        (
-            Key::Line(LIMIT, true),
-            format!("limit {}", clean(&a.claim.display.limit)),
-        ),
+        limit_entry(a),
     ];
-    let legend = legend_rows(entries, font_px - 1, w);
-    let legend_row_h = if small { 25 } else { 26 };
-    let legend_h = legend_row_h * legend.len() as u32 + 4;
+    let legend = Legend::lay_out(entries, panel.font_px - 1, panel.w, panel.legend_row_h());
     let side = if a.claim.side == "two-sided" {
         "bounds".to_string()
     } else {
@@ -1826,51 +1969,21 @@ fn looks_svg(
 
     let mut svg = String::new();
     {
-        let root = SVGBackend::with_string(&mut svg, (w, h)).into_drawing_area();
-        root.fill(&WHITE).map_err(|e| e.to_string())?;
-        let (upper_area, lower_area) = root.split_vertically(h - legend_h);
-        let label_font = (SANS_FAMILY, font_px).into_font().color(&INK);
-        let mut chart = ChartBuilder::on(&upper_area)
-            .caption(
-                &title,
-                (SANS_FAMILY, title_px, FontStyle::Bold)
-                    .into_font()
-                    .color(&INK),
-            )
-            .margin_top(6)
-            .margin_left(8)
-            .margin_right(22)
-            .x_label_area_size(if small { 44 } else { 42 })
-            .y_label_area_size(if small { 70 } else { 72 })
-            .build_cartesian_2d(
-                span_axis(x.lo, x.hi, x.ticks.clone()),
-                span_axis(axis.lo, axis.hi, axis.ticks.clone()),
-            )
-            .map_err(|e| e.to_string())?;
-        chart
-            .configure_mesh()
-            .bold_line_style(GRID.stroke_width(1))
-            .light_line_style(TRANSPARENT)
-            .axis_style(AXIS.stroke_width(1))
-            .label_style(label_font.clone())
-            .axis_desc_style(label_font.clone())
-            .x_desc(x.desc(&format!("{} at each look", counted(a))))
-            .y_desc(axis.title(&side, scale))
-            .x_label_formatter(&|v| x.label(*v))
-            .y_label_formatter(&|v| format!("{:.*}", decimals, v))
-            .draw()
-            .map_err(|e| e.to_string())?;
+        let root = white_canvas(&mut svg, (panel.w, panel.h))?;
+        let (upper_area, lower_area) = root.split_vertically(panel.h - legend.height());
+        let mut chart = trials_chart(
+            &upper_area,
+            &panel,
+            &title,
+            &x,
+            &axis,
+            x.desc(&format!("{} at each look", counted(a))),
+            axis.title(&side, scale),
+        )?;
         let err = |e: DrawingAreaErrorKind<_>| e.to_string();
         let (band_lo, band_hi) = (axis.lo, axis.hi);
         if (band_lo..=band_hi).contains(&limit) {
-            chart
-                .draw_series(DashedLineSeries::new(
-                    vec![(x.lo, limit), (x.hi, limit)],
-                    7,
-                    5,
-                    LIMIT.stroke_width(2),
-                ))
-                .map_err(err)?;
+            draw_limit(&mut chart, (x.lo, limit), (x.hi, limit))?;
         }
         let mut labels: Vec<PointLabel> = Vec::new();
         for (upper, rows) in &series {
@@ -1914,15 +2027,9 @@ fn looks_svg(
                 }
             }
         }
-        let (px_range, _) = chart.plotting_area().get_pixel_range();
-        let label_font = (SANS_FAMILY, font_px - 2).into_font().color(&INK);
-        draw_point_labels(
-            &root,
-            &labels,
-            &label_font,
-            (px_range.start, px_range.end + 18),
-        )?;
-        legend_stack(&lower_area, &legend, legend_row_h, font_px - 1)?;
+        let (plot_x, _) = chart.plotting_area().get_pixel_range();
+        draw_point_labels(&root, &labels, panel.font_px - 2, plot_x)?;
+        legend.draw(&lower_area)?;
         root.present().map_err(|e| e.to_string())?;
     }
     Ok(svg)
@@ -1938,11 +2045,7 @@ fn path_svg(
     scale: &Scale,
     small: bool,
 ) -> Result<String, String> {
-    let (w, h, font_px, title_px) = if small {
-        (440u32, 330u32, 16u32, 17u32)
-    } else {
-        (660, 350, 14, 16)
-    };
+    let panel = Panel::new(small, 350);
     let f = scale.factor;
     let limit = a.claim.limit * f;
     let origin = scale.origin * f;
@@ -1971,12 +2074,11 @@ fn path_svg(
         .chain([limit])
         .collect();
     let axis = ValueAxis::fit(&shown, origin);
-    let decimals = axis.decimals;
     let drawn: Vec<(f64, f64)> = points.iter().map(|(n, v)| (x.at(*n), *v)).collect();
 
     let side = side_word(&path.bound);
     let title = if a.arms.len() > 1 {
-        format!("Arm {}", shorten(&arm.name, 34))
+        arm_title(arm)
     } else {
         format!(
             "{} {} bound along the {}",
@@ -2015,62 +2117,27 @@ fn path_svg(
                 "recorded looks, this one last".to_string()
             },
         ),
-        (
-            Key::Line(LIMIT, true),
-            format!("limit {}", clean(&a.claim.display.limit)),
-        ),
+        limit_entry(a),
     ];
-    let legend = legend_rows(entries, font_px - 1, w);
-    let legend_row_h = if small { 25 } else { 26 };
-    let legend_h = legend_row_h * legend.len() as u32 + 4;
+    let legend = Legend::lay_out(entries, panel.font_px - 1, panel.w, panel.legend_row_h());
 
     let mut svg = String::new();
     {
-        let root = SVGBackend::with_string(&mut svg, (w, h)).into_drawing_area();
-        root.fill(&WHITE).map_err(|e| e.to_string())?;
-        let (upper_area, lower_area) = root.split_vertically(h - legend_h);
-        let label_font = (SANS_FAMILY, font_px).into_font().color(&INK);
-        let mut chart = ChartBuilder::on(&upper_area)
-            .caption(
-                &title,
-                (SANS_FAMILY, title_px, FontStyle::Bold)
-                    .into_font()
-                    .color(&INK),
-            )
-            .margin_top(6)
-            .margin_left(8)
-            .margin_right(22)
-            .x_label_area_size(if small { 44 } else { 42 })
-            .y_label_area_size(if small { 70 } else { 72 })
-            .build_cartesian_2d(
-                span_axis(x.lo, x.hi, x.ticks.clone()),
-                span_axis(axis.lo, axis.hi, axis.ticks.clone()),
-            )
-            .map_err(|e| e.to_string())?;
-        chart
-            .configure_mesh()
-            .bold_line_style(GRID.stroke_width(1))
-            .light_line_style(TRANSPARENT)
-            .axis_style(AXIS.stroke_width(1))
-            .label_style(label_font.clone())
-            .axis_desc_style(label_font.clone())
-            .x_desc(x.desc(&format!("number of {}", counted(a))))
-            .y_desc(axis.title(&format!("{side} bound"), scale))
-            .x_label_formatter(&|v| x.label(*v))
-            .y_label_formatter(&|v| format!("{:.*}", decimals, v))
-            .draw()
-            .map_err(|e| e.to_string())?;
+        let root = white_canvas(&mut svg, (panel.w, panel.h))?;
+        let (upper_area, lower_area) = root.split_vertically(panel.h - legend.height());
+        let mut chart = trials_chart(
+            &upper_area,
+            &panel,
+            &title,
+            &x,
+            &axis,
+            x.desc(&format!("number of {}", counted(a))),
+            axis.title(&format!("{side} bound"), scale),
+        )?;
         let err = |e: DrawingAreaErrorKind<_>| e.to_string();
         let (band_lo, band_hi) = (axis.lo, axis.hi);
         if (band_lo..=band_hi).contains(&limit) {
-            chart
-                .draw_series(DashedLineSeries::new(
-                    vec![(x.lo, limit), (x.hi, limit)],
-                    7,
-                    5,
-                    LIMIT.stroke_width(2),
-                ))
-                .map_err(err)?;
+            draw_limit(&mut chart, (x.lo, limit), (x.hi, limit))?;
         }
         for run in clip_band(&drawn, band_lo, band_hi) {
             chart
@@ -2081,12 +2148,7 @@ fn path_svg(
         for ((n, v), look) in marks.iter().zip(&numbers) {
             let v = v.clamp(band_lo, band_hi);
             let at = (x.at(*n), v);
-            chart
-                .draw_series(std::iter::once(Circle::new(at, 5, ACCENT.filled())))
-                .map_err(err)?;
-            chart
-                .draw_series(std::iter::once(Circle::new(at, 5, WHITE.stroke_width(1))))
-                .map_err(err)?;
+            draw_mark(&mut chart, at)?;
             // Above and to the right of a falling upper bound (below and to the right of a
             // rising lower one), where the line has already passed.
             labels.push(PointLabel {
@@ -2096,15 +2158,9 @@ fn path_svg(
                 centred: false,
             });
         }
-        let (px_range, _) = chart.plotting_area().get_pixel_range();
-        let label_font = (SANS_FAMILY, font_px - 2).into_font().color(&INK);
-        draw_point_labels(
-            &root,
-            &labels,
-            &label_font,
-            (px_range.start, px_range.end + 18),
-        )?;
-        legend_stack(&lower_area, &legend, legend_row_h, font_px - 1)?;
+        let (plot_x, _) = chart.plotting_area().get_pixel_range();
+        draw_point_labels(&root, &labels, panel.font_px - 2, plot_x)?;
+        legend.draw(&lower_area)?;
         root.present().map_err(|e| e.to_string())?;
     }
     Ok(svg)
