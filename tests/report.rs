@@ -791,9 +791,10 @@ fn clustered_arms_show_nominal_and_effective_sizes() {
     assert!(summary.contains("arm     clusters"), "{summary}");
     assert!(summary.contains("look     2 of 2 planned (registered in study.ledger.jsonl)"));
 
-    // Scope best: the per-arm chart's caption names the selected arm (the lower observed rate).
+    // Scope best: the per-arm chart's caption names the arm the analysis selected.
     let mut best = a.clone();
     best.claim.scope = "best".into();
+    best.selected_arm = Some(0);
     let text = text_of(&render(&best, None).expect("renders"), "clustered-best");
     assert!(
         text.contains("The shaded row is arm line-1, selected as the best"),

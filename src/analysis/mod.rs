@@ -1566,6 +1566,7 @@ pub fn analyse(spec: &Spec, data: &Dataset, ctx: &Context) -> Result<Analysis, S
             })
             .collect(),
         claim,
+        selected_arm: selected,
         arms: arm_results,
         methods,
         cautions: cautions(),
@@ -1679,6 +1680,13 @@ data:
                 .starts_with("Arm b, selected as the best of 3")
         );
         assert_eq!(best.verdict, best.arms[1].verdict);
+        assert_eq!(best.selected_arm, Some(1));
+        assert_eq!(all.selected_arm, None);
+        // A lower claim selects the largest observed rate: arm c (9 of 200).
+        let lower = run(&ARMS
+            .replace("SCOPE", "best")
+            .replace("side: upper", "side: lower"));
+        assert_eq!(lower.selected_arm, Some(2));
     }
 
     #[test]

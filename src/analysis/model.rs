@@ -31,6 +31,9 @@ pub struct Analysis {
     pub decision_rule: DecisionRule,
     /// One entry per arm (a single unnamed arm is called `all`).
     pub arms: Vec<ArmResult>,
+    /// Under scope `best`: the index in `arms` of the arm selected and certified.
+    #[serde(default)]
+    pub selected_arm: Option<usize>,
     /// Every division of the error budget, in order.
     pub adjustments: Adjustments,
     /// Catalogue entries of every method that appears in `arms`, primary first.

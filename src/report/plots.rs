@@ -1652,26 +1652,9 @@ pub(crate) fn path_of(arm: &ArmResult) -> Option<&BoundPath> {
     (finite(&path.points).count() >= 2).then_some(path)
 }
 
-/// The arm a `best` scope selected, by the rule of the analysis: the smallest observed value
-/// for an upper or two-sided claim, the largest for a lower one, the first on a tie. The
-/// results carry the choice only inside the statement sentence, so the chart repeats the rule.
+/// The arm a `best` scope selected, as the analysis recorded it.
 pub(crate) fn selected_arm(a: &Analysis) -> Option<usize> {
-    if a.claim.scope != "best" || a.arms.len() < 2 {
-        return None;
-    }
-    let lower = a.claim.side == "lower";
-    let mut best = 0;
-    for (i, arm) in a.arms.iter().enumerate() {
-        let better = if lower {
-            arm.mean > a.arms[best].mean
-        } else {
-            arm.mean < a.arms[best].mean
-        };
-        if better {
-            best = i;
-        }
-    }
-    Some(best)
+    a.selected_arm.filter(|&i| i < a.arms.len())
 }
 
 /// What a clustered analysis counts: its `n` is the number of clusters.
@@ -2491,17 +2474,14 @@ mod tests {
         assert!(svg.contains("scope all: Bonferroni δ/2 over the arms; each bound at δ = 0.0125"));
         assert!(!svg.contains("(selected)"));
         a.claim.scope = "best".into();
-        // line-1 has the smaller observed rate (1.38 % against 2.10 %): it is the one selected.
-        assert_eq!(selected_arm(&a), Some(0));
+        // The chart marks the arm the analysis selected (the rule itself is tested there).
+        a.selected_arm = Some(0);
         let svg = render_plots(&a).expect("draws").arms.expect("two arms");
         assert!(svg.contains("line-1 (selected)") && !svg.contains("line-2 (selected)"));
         assert!(svg.contains("scope best: the best of 2 arms is certified at δ/2"));
-        a.claim.side = "lower".into();
-        assert_eq!(
-            selected_arm(&a),
-            Some(1),
-            "a lower claim selects the largest rate"
-        );
+        a.selected_arm = Some(1);
+        let svg = render_plots(&a).expect("draws").arms.expect("two arms");
+        assert!(svg.contains("line-2 (selected)") && !svg.contains("line-1 (selected)"));
     }
 
     #[test]
