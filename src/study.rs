@@ -321,7 +321,6 @@ pub fn analyse_loaded(
     let mut preview = None;
     let (look_context, pending) = match looks {
         LookSource::Recorded(c) => (c, None),
-        LookSource::Ledger(LedgerUse::Skip) => (LookContext::unregistered(), None),
         LookSource::Ledger(u) => {
             let path = ledger_path(&spec, &base.join(spec_name));
             let file = path
@@ -442,7 +441,7 @@ pub fn analyse_loaded(
                         }),
                     )
                 }
-                LedgerUse::Skip => unreachable!("handled above"),
+                LedgerUse::Skip => (LookContext::unregistered(), None),
             }
         }
     };
